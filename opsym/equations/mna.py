@@ -1,0 +1,197 @@
+"""Modified nodal analysis: stamp a circuit into a sparse linear system.
+
+Unknowns are the node voltages (ground excluded) and the branch currents of the
+voltage-defined elements: voltage sources and op-amp outputs (Ho, Ruehli and
+Brennan, IEEE Trans. Circuits Syst. CAS-22(6), 1975). Rows are:
+
+* KCL at each node — conductance currents plus branch currents *leaving* the node
+  equal the source currents *injected* into it;
+* one row per voltage source — ``V(plus) - V(minus) = value``;
+* one row per op-amp — ``V(minus) - V(plus) + Vout/A = Σ weight·source``: the
+  series input sources (Vos, Vcm/CMRR, dVs/PSRR) on the right-hand side. For the
+  ideal op-amp (a nullor) ``1/A = 0``; the output current is the norator.
+
+Every independent source appears only on the right-hand side, with one column
+of stamps each, so one adjoint solve gives all their coefficients at once.
+
+Examples
+--------
+>>> import opsym
+>>> from opsym.equations.mna import build_equations
+>>> c = opsym.Circuit()
+>>> c.voltage_source("Vin", "in", "0")
+>>> c.resistor("R1", "in", "n")
+>>> c.resistor("R2", "n", "out")
+>>> c.opamp("U1", plus="0", minus="n", out="out", bias=False)
+>>> eqs = build_equations(c)
+>>> eqs.unknowns
+('V(in)', 'V(n)', 'V(out)', 'I(Vin)', 'I(U1)')
+>>> eqs.rows[4]  # op-amp row: V(n) - V(+) + V(out)/A; here 1/A = 0 and + is grounded
+{1: 1}
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+
+import sympy as sp
+
+from ..model.circuit import GROUND, Circuit
+from ..model.elements import Capacitor, CurrentSource, OpAmp, Resistor, VoltageSource
+from ..model.nonideal import PinCurrent, SeriesVoltage
+from ..model.symbols import source_symbol
+
+__all__ = ["NodalEquations", "build_equations"]
+
+
+@dataclass(frozen=True)
+class NodalEquations:
+    """A sparse MNA system ``M·x = Σ_s s·b_s``.
+
+    Attributes
+    ----------
+    unknowns : tuple of str
+        ``"V(node)"`` or ``"I(element)"`` for each column.
+    rows : tuple of dict
+        Row ``r`` maps column index to its (nonzero) entry.
+    row_labels : tuple of str
+        What each row states, for messages (``"KCL at node n"``).
+    row_elements : tuple of tuple of str
+        Names of the elements that stamp each row.
+    sources : dict
+        Source symbol → ``{row: weight}`` right-hand-side stamps.
+    index : dict
+        Unknown label → column index.
+    """
+
+    unknowns: tuple[str, ...]
+    rows: tuple[dict[int, sp.Expr], ...]
+    row_labels: tuple[str, ...]
+    row_elements: tuple[tuple[str, ...], ...]
+    sources: dict[sp.Symbol, dict[int, sp.Expr]]
+    index: dict[str, int]
+
+    def matrix(self) -> sp.Matrix:
+        """The system matrix as a dense SymPy Matrix (for inspection and small cases)."""
+        n = len(self.unknowns)
+        return sp.Matrix(n, n, lambda i, j: self.rows[i].get(j, 0))
+
+    def rhs(self) -> sp.Matrix:
+        """The right-hand side with every source switched on, as a column Matrix."""
+        b = [sp.S.Zero] * len(self.rows)
+        for s, stamps in self.sources.items():
+            for r, w in stamps.items():
+                b[r] += w * s
+        return sp.Matrix(b)
+
+
+class _Builder:
+    def __init__(self, nodes: list[str]) -> None:
+        self.unknowns: list[str] = [f"V({n})" for n in nodes]
+        self.index = {u: i for i, u in enumerate(self.unknowns)}
+        self.rows: list[dict[int, sp.Expr]] = [{} for _ in nodes]
+        self.labels = [f"KCL at node {n}" for n in nodes]
+        self.owners: list[list[str]] = [[] for _ in nodes]
+        self.sources: dict[sp.Symbol, dict[int, sp.Expr]] = {}
+
+    def col(self, node: str) -> int | None:
+        return None if node == GROUND else self.index[f"V({node})"]
+
+    def row_of(self, node: str) -> int | None:
+        return self.col(node)  # KCL row r belongs to node column r
+
+    def add(self, row: int | None, col: int | None, value: sp.Expr, owner: str) -> None:
+        if row is None or col is None:
+            return
+        entries = self.rows[row]
+        entries[col] = entries.get(col, sp.S.Zero) + value
+        if owner not in self.owners[row]:
+            self.owners[row].append(owner)
+
+    def source(self, row: int | None, symbol: sp.Symbol, weight: sp.Expr, owner: str) -> None:
+        if row is None:
+            return
+        stamps = self.sources.setdefault(symbol, {})
+        stamps[row] = stamps.get(row, sp.S.Zero) + weight
+        if owner not in self.owners[row]:
+            self.owners[row].append(owner)
+
+    def branch(self, element: str, label: str) -> tuple[int, int]:
+        """Add a branch-current unknown and its own row; return (row, col)."""
+        col = len(self.unknowns)
+        self.unknowns.append(f"I({element})")
+        self.index[f"I({element})"] = col
+        self.rows.append({})
+        self.labels.append(label)
+        self.owners.append([element])
+        return len(self.rows) - 1, col
+
+
+def build_equations(
+    circuit: Circuit, values: Mapping[sp.Symbol, sp.Expr] | None = None
+) -> NodalEquations:
+    """Stamp ``circuit`` into its MNA system, with ``values`` substituted first.
+
+    ``values`` maps component or op-amp parameter symbols to numbers or
+    expressions; sources stay symbolic whatever it says (their values enter
+    the superposed total only).
+    """
+    values = dict(values or {})
+    nodes = [n for n in circuit.nodes if n != GROUND]
+    b = _Builder(nodes)
+
+    def val(expr: sp.Expr) -> sp.Expr:
+        return expr.xreplace(values) if values else expr
+
+    for e in circuit.elements:
+        if isinstance(e, Resistor):
+            g = 1 / val(e.value)
+            ra, rb = b.row_of(e.a), b.row_of(e.b)
+            ca, cb = b.col(e.a), b.col(e.b)
+            b.add(ra, ca, g, e.name)
+            b.add(rb, cb, g, e.name)
+            b.add(ra, cb, -g, e.name)
+            b.add(rb, ca, -g, e.name)
+        elif isinstance(e, Capacitor):
+            continue  # open circuit at DC
+        elif isinstance(e, CurrentSource):
+            s = source_symbol(e.name)
+            b.source(b.row_of(e.a), s, sp.S.NegativeOne, e.name)
+            b.source(b.row_of(e.b), s, sp.S.One, e.name)
+        elif isinstance(e, VoltageSource):
+            row, col = b.branch(e.name, f"voltage source {e.name}")
+            b.add(b.row_of(e.a), col, sp.S.One, e.name)
+            b.add(b.row_of(e.b), col, sp.S.NegativeOne, e.name)
+            b.add(row, b.col(e.a), sp.S.One, e.name)
+            b.add(row, b.col(e.b), sp.S.NegativeOne, e.name)
+            b.source(row, source_symbol(e.name), sp.S.One, e.name)
+        elif isinstance(e, OpAmp):
+            _stamp_opamp(b, e, val)
+    rows = tuple({c: v for c, v in r.items() if v != 0} for r in b.rows)
+    return NodalEquations(
+        unknowns=tuple(b.unknowns),
+        rows=rows,
+        row_labels=tuple(b.labels),
+        row_elements=tuple(tuple(o) for o in b.owners),
+        sources=b.sources,
+        index=dict(b.index),
+    )
+
+
+def _stamp_opamp(b: _Builder, amp: OpAmp, val) -> None:
+    row, col = b.branch(amp.name, f"op-amp {amp.name} input")
+    b.add(b.row_of(amp.out), col, sp.S.NegativeOne, amp.name)  # output current enters `out`
+    b.add(row, b.col(amp.minus), sp.S.One, amp.name)
+    b.add(row, b.col(amp.plus), sp.S.NegativeOne, amp.name)
+    inverse_gain = sp.S.Zero if amp.gain is None else 1 / val(amp.gain)
+    b.add(row, b.col(amp.out), inverse_gain, amp.name)
+    for kind in amp.nonideals:
+        for inj in kind.injections(amp.name):
+            if isinstance(inj, SeriesVoltage):
+                b.source(row, inj.source, val(inj.weight), amp.name)
+            elif isinstance(inj, PinCurrent):
+                pin = amp.plus if inj.pin == "plus" else amp.minus
+                b.source(b.row_of(pin), inj.source, sp.S.NegativeOne, amp.name)
+            else:  # pragma: no cover - a new injection kind needs a stamp here
+                raise TypeError(f"no stamp for injection {inj!r}")

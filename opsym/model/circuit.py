@@ -1,0 +1,364 @@
+"""The :class:`Circuit`: a named collection of elements between named nodes.
+
+Examples
+--------
+An inverting amplifier with a bias-compensation resistor:
+
+>>> import opsym
+>>> c = opsym.Circuit("inverting stage")
+>>> c.voltage_source("Vin", "in", "0")
+>>> c.resistor("R1", "in", "n")
+>>> c.resistor("R2", "n", "out")
+>>> c.resistor("R3", "p", "0")
+>>> c.opamp("U1", plus="p", minus="n", out="out")
+>>> res = c.analyze("out")
+>>> res.coefficient("Vin")
+-R2/R1
+>>> res.null("U1.Ib", by="R3")
+Eq(R3, R1*R2/(R1 + R2))
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Iterable, Mapping
+from fractions import Fraction
+from numbers import Real
+from typing import TYPE_CHECKING, Any
+
+import sympy as sp
+
+from ..errors import DuplicateNameError, InvalidValueError, UnknownNameError
+from .elements import Capacitor, CurrentSource, Element, OpAmp, Resistor, VoltageSource
+from .nonideal import KINDS, NonIdeal
+from .symbols import OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
+
+if TYPE_CHECKING:
+    from ..analyses.result import Result
+
+__all__ = ["GROUND", "Circuit", "to_exact"]
+
+#: The ground node's name; "gnd" (any case) is accepted as an alias.
+GROUND = "0"
+_NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
+_NODE = re.compile(r"^[A-Za-z0-9_][A-Za-z0-9_+\-]*$")
+
+
+def to_exact(value: Any, where: str) -> sp.Expr:
+    """Turn a user number or expression into an exact SymPy value.
+
+    Floats become the exact rational of their shortest decimal form
+    (``0.1`` → ``1/10``), so the algebra stays exact; text goes through the
+    whitelist value parser (``"10k"``). ``where`` names the field for messages.
+
+    Examples
+    --------
+    >>> to_exact(4.7e-9, "C1")
+    47/10000000000
+    >>> to_exact("10k", "R1")
+    10000
+    """
+    if isinstance(value, bool) or value is None:
+        raise InvalidValueError(f"{where}: {value!r} is not a value; give a number or expression")
+    if isinstance(value, str):
+        from ..io.values import parse_value  # the whitelist parser, never sympify
+
+        return parse_value(value, where=where)
+    if isinstance(value, sp.Basic):
+        if not isinstance(value, sp.Expr):
+            raise InvalidValueError(f"{where}: {value!r} is not an expression")
+        if value.has(sp.nan, sp.zoo, sp.oo, -sp.oo):
+            raise InvalidValueError(f"{where}: value {value} is not finite; give a finite value")
+        if isinstance(value, sp.Float):
+            return sp.Rational(repr(float(value)))
+        return value
+    if isinstance(value, int):
+        return sp.Integer(value)
+    if isinstance(value, Fraction):
+        return sp.Rational(value.numerator, value.denominator)
+    if isinstance(value, Real):  # float, numpy scalars
+        x = float(value)
+        if not math.isfinite(x):
+            raise InvalidValueError(f"{where}: value {x} is not finite; give a finite number")
+        return sp.Rational(repr(x))
+    raise InvalidValueError(
+        f"{where}: cannot use a {type(value).__name__} as a value; "
+        "give a number, a SymPy expression or text such as '10k'"
+    )
+
+
+def _positive_value(value: Any, name: str, kind: str) -> sp.Expr:
+    if value is None:
+        return component_symbol(name)
+    v = to_exact(value, f"{kind} {name}")
+    if v.is_number:
+        if v.is_zero:
+            hint = " (for a wire, give both ends the same node name)" if kind == "resistor" else ""
+            raise InvalidValueError(f"{kind} {name}: value is zero; give a positive value{hint}")
+        if v.is_extended_real is False or v.is_negative:
+            raise InvalidValueError(f"{kind} {name}: value {v} is not positive; give a value > 0")
+    elif v.is_positive is False:
+        raise InvalidValueError(f"{kind} {name}: value {v} cannot be positive; give a value > 0")
+    return v
+
+
+class Circuit:
+    """A circuit to analyse; ground is node ``"0"`` (alias ``"gnd"``).
+
+    Parameters
+    ----------
+    title : str
+        A name for reports.
+
+    Examples
+    --------
+    >>> c = Circuit("follower")
+    >>> c.voltage_source("Vs", "p", "0")
+    >>> c.opamp("U1", plus="p", minus="out", out="out")
+    >>> c.analyze("out").expression
+    U1.Vos + Vs
+    """
+
+    def __init__(self, title: str = "") -> None:
+        self.title = str(title)
+        self._elements: dict[str, Element] = {}
+
+    # -- declaring ---------------------------------------------------------------
+
+    def resistor(self, name: str, a: str, b: str, value: Any = None) -> None:
+        """Add a resistor between nodes ``a`` and ``b``; ``None`` keeps it symbolic."""
+        name = self._new_name(name)
+        na, nb = self._nodes(name, a, b)
+        self._add(Resistor(name, na, nb, _positive_value(value, name, "resistor")))
+
+    def capacitor(self, name: str, a: str, b: str, value: Any = None) -> None:
+        """Add a capacitor; it is an open circuit in the DC analyses."""
+        name = self._new_name(name)
+        na, nb = self._nodes(name, a, b)
+        self._add(Capacitor(name, na, nb, _positive_value(value, name, "capacitor")))
+
+    def voltage_source(self, name: str, plus: str, minus: str, value: Any = None) -> None:
+        """Add a signal voltage source, ``V(plus) - V(minus) = value``."""
+        name = self._new_name(name)
+        na, nb = self._nodes(name, plus, minus)
+        self._add(VoltageSource(name, na, nb, self._source_value(name, value)))
+
+    def current_source(self, name: str, a: str, b: str, value: Any = None) -> None:
+        """Add a signal current source; its current flows through it from ``a`` into ``b``."""
+        name = self._new_name(name)
+        na, nb = self._nodes(name, a, b)
+        self._add(CurrentSource(name, na, nb, self._source_value(name, value)))
+
+    def opamp(
+        self,
+        name: str,
+        plus: str,
+        minus: str,
+        out: str,
+        gain: Any = "ideal",
+        *,
+        offset: bool = True,
+        bias: bool = True,
+        cmrr: bool = False,
+        psrr: bool = False,
+        extra: Iterable[NonIdeal] = (),
+    ) -> None:
+        """Add an op-amp.
+
+        Parameters
+        ----------
+        name : str
+            Element name, e.g. ``"U1"``; its symbols are ``U1.Vos`` and so on.
+        plus, minus, out : str
+            Nodes of the non-inverting input, inverting input and output.
+        gain : "ideal", "finite", number or expression
+            ``"ideal"``: a nullor. ``"finite"``: open-loop gain symbol ``U1.A``.
+            Anything else: that open-loop gain.
+        offset, bias, cmrr, psrr : bool
+            Which error sources it carries: ``Vos``; ``Ib+``/``Ib-``;
+            ``Vcm/CMRR``; ``dVs/PSRR``.
+        extra : iterable of NonIdeal
+            Further non-ideal sources of your own kinds.
+        """
+        name = self._new_name(name)
+        nodes = self._nodes(name, plus, minus, out)
+        if nodes[2] == GROUND:
+            raise InvalidValueError(
+                f"op-amp {name}: output is tied to ground; give the output its own node"
+            )
+        if isinstance(gain, str) and gain == "ideal":
+            a = None
+        elif isinstance(gain, str) and gain == "finite":
+            a = opamp_symbol(name, "A")
+        elif isinstance(gain, str) and gain not in ("ideal", "finite"):
+            a = _positive_value(gain, name + ".A", "op-amp gain")
+        else:
+            a = _positive_value(gain, name + ".A", "op-amp gain")
+        wanted = [("offset", offset), ("bias", bias), ("cmrr", cmrr), ("psrr", psrr)]
+        kinds: list[NonIdeal] = [KINDS[k]() for k, on in wanted if on]
+        for item in extra:
+            if not isinstance(item, NonIdeal):
+                raise InvalidValueError(
+                    f"op-amp {name}: extra={item!r} is not a NonIdeal; pass NonIdeal instances"
+                )
+            if item not in kinds:
+                kinds.append(item)
+        self._add(OpAmp(name, *nodes, gain=a, nonideals=tuple(kinds)))
+
+    # -- reading -----------------------------------------------------------------
+
+    @property
+    def elements(self) -> tuple[Element, ...]:
+        """All elements, in declaration order."""
+        return tuple(self._elements.values())
+
+    @property
+    def opamps(self) -> tuple[OpAmp, ...]:
+        """The op-amps, in declaration order."""
+        return tuple(e for e in self._elements.values() if isinstance(e, OpAmp))
+
+    @property
+    def nodes(self) -> tuple[str, ...]:
+        """Every node name, ground first, then in order of first use."""
+        seen = {GROUND: None}
+        for e in self._elements.values():
+            seen.update(dict.fromkeys(e.nodes))
+        return tuple(seen)
+
+    def element(self, name: str) -> Element:
+        """Return the element called ``name``."""
+        try:
+            return self._elements[name]
+        except KeyError:
+            raise UnknownNameError(
+                f"no element named {name!r} in circuit {self.title!r}; "
+                f"it has {_listing(self._elements)}"
+            ) from None
+
+    def node(self, name: str) -> str:
+        """Return the canonical spelling of node ``name``; raise if the circuit lacks it."""
+        canon = _canonical_node(name)
+        if canon not in self.nodes:
+            raise UnknownNameError(
+                f"no node named {name!r} in circuit {self.title!r}; "
+                f"its nodes are {_listing(self.nodes)}"
+            )
+        return canon
+
+    def symbol(self, name: str) -> sp.Symbol:
+        """Return the SymPy symbol for a component, source or op-amp parameter.
+
+        ``"R1"`` gives the component symbol (even if R1 has a numeric value);
+        ``"U1.Vos"``, ``"U1.Ib+"``, ``"U1.Ib-"``, ``"U1.Ib"``, ``"U1.Ios"``,
+        ``"U1.A"``, ``"U1.CMRR"``, ``"U1.Vcm"``, ``"U1.PSRR"``, ``"U1.dVs"`` the
+        op-amp's own.
+
+        Examples
+        --------
+        >>> c = Circuit()
+        >>> c.opamp("U1", "p", "n", "out")
+        >>> c.symbol("U1.Ib-")
+        U1.Ib-
+        """
+        if not isinstance(name, str):
+            raise UnknownNameError(f"symbol names are text such as 'R1' or 'U1.Vos', not {name!r}")
+        owner, dot, what = name.partition(".")
+        element = self.element(owner)
+        if not dot:
+            if isinstance(element, (VoltageSource, CurrentSource)):
+                return source_symbol(owner)
+            if isinstance(element, OpAmp):
+                raise UnknownNameError(
+                    f"{name!r} is an op-amp; ask for one of its symbols, "
+                    f"e.g. {name}.Vos ({', '.join(name + '.' + p for p in OPAMP_PARAMETERS)})"
+                )
+            return component_symbol(owner)
+        if not isinstance(element, OpAmp) or what not in OPAMP_PARAMETERS:
+            valid = ", ".join(owner + "." + p for p in OPAMP_PARAMETERS)
+            hint = (
+                f"op-amp symbols are {valid}"
+                if isinstance(element, OpAmp)
+                else (f"{owner} is a {element.kind}; only op-amps have dotted symbols")
+            )
+            raise UnknownNameError(f"no symbol named {name!r}: {hint}")
+        return opamp_symbol(owner, what)
+
+    def analyze(
+        self,
+        output: str | tuple[str, str],
+        values: Mapping[Any, Any] | None = None,
+        progress: Any = None,
+    ) -> Result:
+        """Derive the output: every source's coefficient in closed form.
+
+        Parameters
+        ----------
+        output : str or (str, str)
+            Output node, or a ``(plus, minus)`` pair for a differential output.
+        values : mapping, optional
+            Component or parameter values fixed *before* solving (names or
+            symbols as keys); the rest stay symbolic. Large designs solve much
+            faster with the uninteresting parts fixed.
+        progress : callable, optional
+            Called as ``progress(done, total, what)`` during long solves. The
+            library is silent without it.
+        """
+        from ..analyses.derive import derive
+
+        return derive(self, output, values=values, progress=progress)
+
+    def __repr__(self) -> str:
+        return f"Circuit({self.title!r}, {len(self._elements)} elements)"
+
+    # -- helpers -----------------------------------------------------------------
+
+    def _new_name(self, name: Any) -> str:
+        if not isinstance(name, str) or not _NAME.match(name):
+            raise InvalidValueError(
+                f"element name {name!r} is not valid; use letters, digits and '_', "
+                "starting with a letter (e.g. 'R1', 'U2', 'Vin')"
+            )
+        if name in self._elements:
+            raise DuplicateNameError(
+                f"element name {name!r} is already used by "
+                f"{self._elements[name].describe()}; choose another name"
+            )
+        return name
+
+    def _nodes(self, name: str, *nodes: Any) -> tuple[str, ...]:
+        out = []
+        for n in nodes:
+            if isinstance(n, int) and not isinstance(n, bool):
+                n = str(n)
+            if not isinstance(n, str) or not _NODE.match(n):
+                raise InvalidValueError(
+                    f"element {name}: node name {n!r} is not valid; use letters, digits, '_', "
+                    "'+' or '-' (ground is '0' or 'gnd')"
+                )
+            out.append(_canonical_node(n))
+        if len(out) == 2 and out[0] == out[1]:
+            raise InvalidValueError(
+                f"element {name}: both ends are on node {out[0]!r}; connect it between two nodes"
+            )
+        return tuple(out)
+
+    def _source_value(self, name: str, value: Any) -> sp.Expr:
+        if value is None:
+            return source_symbol(name)
+        return to_exact(value, f"source {name}")
+
+    def _add(self, element: Element) -> None:
+        self._elements[element.name] = element
+
+
+def _canonical_node(name: str) -> str:
+    return GROUND if name.lower() == "gnd" else name
+
+
+def _listing(names: Iterable[str]) -> str:
+    names = list(names)
+    if not names:
+        return "none yet"
+    shown = ", ".join(repr(n) for n in names[:12])
+    return shown + (f" and {len(names) - 12} more" if len(names) > 12 else "")

@@ -1,0 +1,109 @@
+"""The circuit elements: plain, immutable records that know nothing of solving.
+
+Examples
+--------
+>>> from opsym.model.elements import Resistor
+>>> import sympy as sp
+>>> Resistor("R1", "in", "n", sp.Integer(1000))
+Resistor(name='R1', a='in', b='n', value=1000)
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import sympy as sp
+
+from .nonideal import NonIdeal
+
+__all__ = ["Capacitor", "CurrentSource", "Element", "OpAmp", "Resistor", "VoltageSource"]
+
+
+@dataclass(frozen=True)
+class Element:
+    """Common base: every element has a unique name."""
+
+    name: str
+
+    @property
+    def nodes(self) -> tuple[str, ...]:
+        """Nodes the element touches, in declaration order."""
+        raise NotImplementedError
+
+    @property
+    def kind(self) -> str:
+        """Lower-case element kind, as used in messages and design files."""
+        return _KIND_NAMES[type(self)]
+
+    def describe(self) -> str:
+        """Return e.g. ``resistor R1 (in-n)`` for messages."""
+        return f"{self.kind} {self.name} ({'-'.join(self.nodes)})"
+
+
+@dataclass(frozen=True)
+class TwoTerminal(Element):
+    """An element between nodes ``a`` and ``b`` with a value."""
+
+    a: str
+    b: str
+    value: sp.Expr
+
+    @property
+    def nodes(self) -> tuple[str, ...]:
+        return (self.a, self.b)
+
+
+@dataclass(frozen=True)
+class Resistor(TwoTerminal):
+    """A resistor; ``value`` in ohms."""
+
+
+@dataclass(frozen=True)
+class Capacitor(TwoTerminal):
+    """A capacitor; ``value`` in farads. Open at DC."""
+
+
+@dataclass(frozen=True)
+class VoltageSource(TwoTerminal):
+    """An independent voltage source: ``V(a) - V(b) = value`` (``a`` is the plus node)."""
+
+
+@dataclass(frozen=True)
+class CurrentSource(TwoTerminal):
+    """An independent current source: ``value`` amperes flow through it from ``a`` into ``b``."""
+
+
+@dataclass(frozen=True)
+class OpAmp(Element):
+    """An op-amp with pins ``plus``, ``minus`` and ``out`` (output referred to ground).
+
+    ``gain`` is ``None`` for the ideal op-amp (a nullor) or the open-loop gain
+    expression (``Vout = A·(V+ − V-)``). ``nonideals`` are the error sources it
+    carries.
+    """
+
+    plus: str
+    minus: str
+    out: str
+    gain: sp.Expr | None = None
+    nonideals: tuple[NonIdeal, ...] = field(default=())
+
+    @property
+    def nodes(self) -> tuple[str, ...]:
+        return (self.plus, self.minus, self.out)
+
+    def sources(self) -> tuple[sp.Symbol, ...]:
+        """Every independent error source this op-amp adds."""
+        return tuple(s for n in self.nonideals for s in n.sources(self.name))
+
+    def describe(self) -> str:
+        return f"op-amp {self.name} (+={self.plus}, -={self.minus}, out={self.out})"
+
+
+_KIND_NAMES = {
+    Resistor: "resistor",
+    Capacitor: "capacitor",
+    VoltageSource: "voltage source",
+    CurrentSource: "current source",
+    OpAmp: "op-amp",
+}

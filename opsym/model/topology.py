@@ -1,0 +1,159 @@
+"""Topology checks run before any algebra: each names what is wrong and how to fix it.
+
+* floating islands — nodes with no DC path to ground;
+* loops of voltage-defined branches — voltage sources and op-amp outputs
+  (each output is a voltage referred to ground) that close a loop;
+* op-amps without a DC feedback path from the output to the inverting input.
+
+Examples
+--------
+>>> import opsym
+>>> c = opsym.Circuit("open input")
+>>> c.resistor("R1", "n", "0")
+>>> c.resistor("R2", "n", "out")
+>>> c.opamp("U1", plus="p", minus="n", out="out")
+>>> try:
+...     c.analyze("out")
+... except opsym.FloatingNodeError as err:
+...     print(err)  # doctest: +NORMALIZE_WHITESPACE
+node 'p' has no DC path to ground (it touches only: op-amp U1 + input);
+connect it through a resistor or a source
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+
+from ..errors import FloatingNodeError, NoFeedbackError, SingularCircuitError
+from .circuit import GROUND, Circuit
+from .elements import OpAmp, Resistor, VoltageSource
+
+__all__ = ["check_topology"]
+
+
+class _Forest:
+    """Union-find that remembers which element joined each pair (for loop reports)."""
+
+    def __init__(self) -> None:
+        self.parent: dict[str, str] = {}
+
+    def find(self, x: str) -> str:
+        self.parent.setdefault(x, x)
+        while self.parent[x] != x:
+            self.parent[x] = self.parent[self.parent[x]]
+            x = self.parent[x]
+        return x
+
+    def union(self, a: str, b: str) -> bool:
+        ra, rb = self.find(a), self.find(b)
+        if ra == rb:
+            return False
+        self.parent[ra] = rb
+        return True
+
+
+def check_topology(circuit: Circuit) -> None:
+    """Raise a specific :class:`~opsym.OpsymError` if ``circuit`` cannot be solved at DC."""
+    _check_source_loops(circuit)
+    _check_floating(circuit)
+    _check_feedback(circuit)
+
+
+def _voltage_branches(circuit: Circuit) -> list[tuple[str, str, str]]:
+    out = []
+    for e in circuit.elements:
+        if isinstance(e, VoltageSource):
+            out.append((e.a, e.b, f"voltage source {e.name}"))
+        elif isinstance(e, OpAmp):
+            out.append((e.out, GROUND, f"output of op-amp {e.name}"))
+    return out
+
+
+def _check_source_loops(circuit: Circuit) -> None:
+    forest = _Forest()
+    adjacency: dict[str, list[tuple[str, str]]] = defaultdict(list)
+    for a, b, what in _voltage_branches(circuit):
+        if not forest.union(a, b):
+            loop = [what, *_path(adjacency, a, b)]
+            raise SingularCircuitError(
+                "these voltage-defined branches form a loop, so their currents are "
+                f"undetermined: {', '.join(loop)}; remove one of them or put a resistor "
+                "in series"
+            )
+        adjacency[a].append((b, what))
+        adjacency[b].append((a, what))
+
+
+def _path(adjacency: dict[str, list[tuple[str, str]]], start: str, goal: str) -> list[str]:
+    """Element labels along the tree path from ``start`` to ``goal``."""
+    stack = [(start, [])]
+    seen = {start}
+    while stack:
+        node, labels = stack.pop()
+        if node == goal:
+            return labels
+        for nxt, what in adjacency[node]:
+            if nxt not in seen:
+                seen.add(nxt)
+                stack.append((nxt, [*labels, what]))
+    return []
+
+
+def _check_floating(circuit: Circuit) -> None:
+    forest = _Forest()
+    forest.find(GROUND)
+    touches: dict[str, list[str]] = defaultdict(list)
+    for e in circuit.elements:
+        for n in e.nodes:
+            forest.find(n)
+        if isinstance(e, OpAmp):
+            touches[e.plus].append(f"op-amp {e.name} + input")
+            touches[e.minus].append(f"op-amp {e.name} - input")
+            forest.union(e.out, GROUND)
+        elif isinstance(e, (Resistor, VoltageSource)):
+            forest.union(e.a, e.b)
+        else:
+            for n in e.nodes:
+                touches[n].append(e.describe())
+    ground = forest.find(GROUND)
+    islands: dict[str, list[str]] = defaultdict(list)
+    for n in circuit.nodes:
+        if forest.find(n) != ground:
+            islands[forest.find(n)].append(n)
+    if not islands:
+        return
+    nodes = sorted(islands.values(), key=len)[0]
+    if len(nodes) == 1:
+        where = touches.get(nodes[0], [])
+        detail = f" (it touches only: {', '.join(where)})" if where else ""
+        raise FloatingNodeError(
+            f"node {nodes[0]!r} has no DC path to ground{detail}; "
+            "connect it through a resistor or a source"
+        )
+    raise FloatingNodeError(
+        f"nodes {', '.join(repr(n) for n in nodes)} form an island with no DC path to ground "
+        "(capacitors, current sources and op-amp inputs carry no DC path); connect the island "
+        "to the rest of the circuit through a resistor or a source"
+    )
+
+
+def _check_feedback(circuit: Circuit) -> None:
+    opamps = circuit.opamps
+    for amp in opamps:
+        if amp.minus == amp.out:
+            continue
+        forest = _Forest()
+        for e in circuit.elements:
+            if isinstance(e, (Resistor, VoltageSource)):
+                if GROUND not in (e.a, e.b):
+                    forest.union(e.a, e.b)
+            elif isinstance(e, OpAmp) and e is not amp:
+                for pin in (e.plus, e.minus):
+                    if GROUND not in (pin, e.out):
+                        forest.union(pin, e.out)
+        if amp.minus == GROUND or forest.find(amp.minus) != forest.find(amp.out):
+            raise NoFeedbackError(
+                f"op-amp {amp.name} has no DC feedback path from its output {amp.out!r} to its "
+                f"- input {amp.minus!r}; add a resistor (or a wire) from the output back to the "
+                "- input, or check which pin is which"
+            )
