@@ -20,7 +20,7 @@ from typing import Any
 
 import sympy as sp
 
-from ..equations.adjoint import Progress, solve_adjoint
+from ..equations.adjoint import Progress, product, solve_adjoint
 from ..equations.mna import build_equations
 from ..errors import InvalidValueError, UnknownNameError
 from ..model.circuit import GROUND, Circuit, to_exact
@@ -117,7 +117,7 @@ def derive(
     coefficients: dict[sp.Symbol, sp.Expr] = {}
     for info in sources_of(circuit):
         stamps = eqs.sources.get(info.symbol, {})
-        coefficients[info.symbol] = sp.Add(*[z[r] * w for r, w in stamps.items()])
+        coefficients[info.symbol] = sp.Add(*[product(z[r], w) for r, w in stamps.items()])
     return Result(
         circuit=circuit,
         output=label,

@@ -75,6 +75,7 @@ class Result:
         "_fixed",
         "_output",
         "_post",
+        "_readable",
         "_sources",
         "_substituted",
         "_terms",
@@ -100,6 +101,7 @@ class Result:
         self._averaged = averaged
         self._substituted = substituted
         self._terms: dict[sp.Symbol, sp.Expr] | None = None
+        self._readable: dict[sp.Symbol, sp.Expr] = {}
 
     # -- what was derived ---------------------------------------------------------
 
@@ -135,16 +137,24 @@ class Result:
 
     @property
     def terms(self) -> Mapping[sp.Symbol, sp.Expr]:
-        """``{source symbol: coefficient}`` for every independent source, readable form."""
+        """``{source symbol: coefficient}`` for every independent source.
+
+        Each coefficient is as solved: a product of factored block results, or
+        a short sum of such products where several paths reach the output. It
+        is exact and costs nothing more to get; :meth:`coefficient` and
+        :meth:`simplify` give the form collected over one denominator.
+        """
         if self._terms is None:
-            deep = self._substituted
-            self._terms = {s: tidy(c, deep=deep) for s, c in self._coefficients.items()}
+            if self._substituted:
+                self._terms = {s: self.coefficient(s) for s in self._coefficients}
+            else:
+                self._terms = dict(self._coefficients)
         return MappingProxyType(self._terms)
 
-    @property
-    def compact_terms(self) -> Mapping[sp.Symbol, sp.Expr]:
-        """The coefficients exactly as solved: products of block factors, not tidied."""
-        return MappingProxyType(self._coefficients)
+    def simplify(self) -> Result:
+        """The same result with every coefficient collected and factored (cached)."""
+        coefficients = {s: self.coefficient(s) for s in self._coefficients}
+        return self._replace(coefficients=coefficients, substituted=False)
 
     @property
     def expression(self) -> sp.Expr:
@@ -174,7 +184,9 @@ class Result:
                 f"{sym} is not a source of this result; its sources are "
                 f"{', '.join(str(s) for s in self._coefficients)}"
             )
-        return self.terms[sym]
+        if sym not in self._readable:
+            self._readable[sym] = tidy(self._coefficients[sym], deep=self._substituted)
+        return self._readable[sym]
 
     # -- new results ----------------------------------------------------------------
 

@@ -34,7 +34,7 @@ from .mna import NodalEquations
 from .sparse import SingularBlock, solve_block
 from .structure import StructurallySingular, block_order
 
-__all__ = ["solve_adjoint"]
+__all__ = ["product", "solve_adjoint"]
 
 Progress = Callable[[int, int, str], None]
 
@@ -71,13 +71,13 @@ def solve_adjoint(
             if weight != 0:
                 rhs[u]["c"] = sp.Integer(weight) if isinstance(weight, int) else weight
             known = [
-                _factored(v) * z[rr]
+                product(_factored(v), z[rr])
                 for rr, v in transposed[u].items()
                 if rr not in members and z[rr] != 0
             ]
             if known:
                 rhs[u][u] = sp.S.One
-                coupling[u] = -sp.Add(*known)
+                coupling[u] = product(sp.S.NegativeOne, sp.Add(*known))
         if not any(rhs.values()):
             continue  # nothing drives this block: its z entries stay zero
         try:
@@ -85,11 +85,51 @@ def solve_adjoint(
         except SingularBlock:
             raise _block_error(eqs, block) from None
         for r in block:
-            parts = [y if key == "c" else y * coupling[key] for key, y in solution[r].items()]
+            parts = [
+                y if key == "c" else product(y, coupling[key]) for key, y in solution[r].items()
+            ]
             z[r] = sp.Add(*parts)
         if progress is not None:
             progress(done, len(blocks), f"block of {len(block)} equation(s)")
     return z
+
+
+#: Products longer than this many factors are nested rather than flattened.
+_NEST_AT = 8
+
+
+def product(a: sp.Expr, b: sp.Expr) -> sp.Expr:
+    """``a·b``, nested instead of flattened once it is long.
+
+    A flattened product copies and re-sorts all its factors, so building a
+    cascade's coefficients one stage at a time would cost quadratic time and
+    memory; a nested product shares the downstream factor and stays linear.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> x, y = sp.symbols("x y")
+    >>> product(x, y)
+    x*y
+    """
+    if a == 0 or b == 0:
+        return sp.S.Zero
+    if a == 1:
+        return b
+    if b == 1:
+        return a
+    if _length(a) + _length(b) > _NEST_AT:
+        return sp.Mul(a, b, evaluate=False)
+    return a * b
+
+
+def _length(e: sp.Expr) -> int:
+    """Factor count of a product; a nested (unevaluated) product counts as long."""
+    if not e.is_Mul:
+        return 1
+    if any(arg.is_Mul for arg in e.args):
+        return _NEST_AT + 1
+    return len(e.args)
 
 
 def _factored(entry: sp.Expr) -> sp.Expr:

@@ -63,7 +63,10 @@ def solve_block(
     a = {r: {c: next(it) for c in row} for r, row in matrix.items()}
     b = {r: {k: next(it) for k in row} for r, row in rhs.items()}
     solution = _eliminate(a, b, cols, domain)
-    return {c: {k: readable(v, domain) for k, v in sol.items()} for c, sol in solution.items()}
+    cache: dict = {}  # entries of one block share its determinant: factor it once
+    return {
+        c: {k: readable(v, domain, cache) for k, v in sol.items()} for c, sol in solution.items()
+    }
 
 
 def _eliminate(a, b, cols, domain):
@@ -150,7 +153,7 @@ def _size(v) -> int:
     return len(numer) + len(v.denom)
 
 
-def readable(value, domain) -> sp.Expr:
+def readable(value, domain, cache: dict | None = None) -> sp.Expr:
     """Convert a domain element to SymPy with numerator and denominator factored.
 
     Examples
@@ -164,11 +167,18 @@ def readable(value, domain) -> sp.Expr:
     numer = getattr(value, "numer", None)
     if not hasattr(numer, "factor_list"):  # EX and plain numbers
         return sp.factor(domain.to_sympy(value))
-    return _factored(value.numer) / _factored(value.denom)
+    cache = {} if cache is None else cache
+    return _factored(value.numer, cache) / _factored(value.denom, cache)
 
 
-def _factored(poly) -> sp.Expr:
+def _factored(poly, cache: dict) -> sp.Expr:
+    if poly in cache:
+        return cache[poly]
+    if len(poly) == 1:  # a monomial needs no factoring
+        cache[poly] = poly.as_expr()
+        return cache[poly]
     coeff, factors = poly.factor_list()
     out = [poly.ring.domain.to_sympy(coeff)]
     out.extend(f.as_expr() ** k for f, k in factors)
-    return sp.Mul(*out)
+    cache[poly] = sp.Mul(*out)
+    return cache[poly]

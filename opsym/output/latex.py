@@ -40,7 +40,7 @@ def result_latex(result: Result, names: Mapping[sp.Symbol, str] | None = None) -
     table = {**result.symbol_latex(), **(names or {})}
     lines = []
     for info in result.sources:
-        coeff = result.terms[info.symbol]
+        coeff = result.coefficient(info.symbol)
         if coeff == 0:
             continue
         sign = "+"
