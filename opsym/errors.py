@@ -20,11 +20,13 @@ element name 'R1' is already used by resistor R1 (a-0); choose another name
 from __future__ import annotations
 
 __all__ = [
+    "BudgetError",
     "CircuitError",
     "DesignFileError",
     "DuplicateNameError",
     "FloatingNodeError",
     "InvalidValueError",
+    "MissingDependencyError",
     "NoFeedbackError",
     "NoSolutionError",
     "OpsymError",

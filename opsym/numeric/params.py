@@ -1,0 +1,439 @@
+"""Op-amp and resistor parameter sets as plain data, and a few invented generic ones.
+
+An :class:`OpAmpParams` holds what a datasheet table gives for the DC error
+terms: offset voltage, its drift, bias and offset currents, open-loop gain,
+CMRR and PSRR, each as a typical value and a limit (maximum, or minimum for
+gain and rejection ratios). A :class:`BiasLaw` says how the bias current moves
+with temperature. A :class:`ResistorParams` holds a tolerance and a TCR.
+
+The shipped sets are **invented and generic**, of the orders of magnitude the
+trade associates with each input technology; they describe no real part. Use
+them to explore, then put your part's datasheet values in a set of your own.
+
+Units: volts, amperes, V/V, dB for CMRR/PSRR (as datasheets give them), V/°C
+for drift, fractions for tolerance and 1/°C for TCR.
+
+Examples
+--------
+>>> p = opamp_parameters("generic JFET")
+>>> p.name
+'generic JFET'
+>>> round(p.bias_law.factor(85.0))
+64
+>>> resistor_parameters("thin film 0.1%").tolerance
+0.001
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+from ..errors import BudgetError, UnknownNameError
+from .units import db_to_ratio, parse_fraction, parse_quantity
+
+__all__ = [
+    "OPAMP_SETS",
+    "REFERENCE_TEMPERATURE",
+    "RESISTOR_SETS",
+    "BiasLaw",
+    "OpAmpParams",
+    "ResistorParams",
+    "opamp_parameters",
+    "resistor_parameters",
+]
+
+#: Temperature (°C) at which datasheet values are given; drifts are measured from it.
+REFERENCE_TEMPERATURE = 25.0
+
+_GRADES = ("typical", "max")
+
+
+def _check_grade(grade: str) -> str:
+    if grade not in _GRADES:
+        raise BudgetError(
+            f"grade {grade!r} is not known; use 'max' (datasheet limits) or 'typical'"
+        )
+    return grade
+
+
+@dataclass(frozen=True)
+class BiasLaw:
+    """How input bias (and offset) current scales with temperature.
+
+    ``kind="constant"``: no change (a fair first guess for bipolar inputs,
+    which change slowly). ``kind="doubling"``: the current doubles every
+    ``doubling_c`` degrees above 25 °C and halves every ``doubling_c`` below
+    (FET and CMOS inputs, whose bias current is junction leakage). Doubling
+    every 10 °C is a rule of thumb of the trade, not a specification.
+
+    Examples
+    --------
+    >>> BiasLaw("doubling", 10.0).factor(85.0)
+    64.0
+    >>> BiasLaw().factor(-40.0)
+    1.0
+    """
+
+    kind: str = "constant"
+    doubling_c: float = 10.0
+
+    def __post_init__(self) -> None:
+        if self.kind not in ("constant", "doubling"):
+            raise BudgetError(
+                f"bias law kind {self.kind!r} is not known; use 'constant' or 'doubling'"
+            )
+        if self.kind == "doubling" and not (
+            math.isfinite(self.doubling_c) and self.doubling_c > 0
+        ):
+            raise BudgetError(
+                f"bias law doubling_c={self.doubling_c} must be a positive number of °C"
+            )
+
+    def factor(self, temperature: float) -> float:
+        """Ratio of the current at ``temperature`` (°C) to the current at 25 °C."""
+        if self.kind == "constant":
+            return 1.0
+        return 2.0 ** ((float(temperature) - REFERENCE_TEMPERATURE) / self.doubling_c)
+
+    def describe(self) -> str:
+        """Words for reports, e.g. ``doubles every 10 °C``."""
+        if self.kind == "constant":
+            return "constant over temperature"
+        return f"doubles every {self.doubling_c:g} °C"
+
+
+@dataclass(frozen=True)
+class OpAmpParams:
+    """DC error parameters of one op-amp type, at 25 °C unless stated.
+
+    Attributes
+    ----------
+    name, description : str
+        What the set is called and what it stands for.
+    vos_typ, vos_max : float
+        Input offset voltage magnitude, V.
+    drift_typ, drift_max : float
+        Offset drift magnitude, V/°C.
+    ib_typ, ib_max : float
+        Input bias current, A, signed: positive *into* the pins (opsym's
+        convention). A negative value says the current flows out.
+    ios_typ, ios_max : float
+        Input offset current magnitude, A.
+    a_typ, a_min : float
+        Open-loop DC gain, V/V.
+    cmrr_typ_db, cmrr_min_db, psrr_typ_db, psrr_min_db : float
+        Rejection ratios, dB (20·log10 of the V/V ratio). PSRR is for the
+        change of the total supply span.
+    bias_law : BiasLaw
+        How Ib and Ios scale with temperature.
+    """
+
+    name: str
+    description: str = ""
+    vos_typ: float = 0.0
+    vos_max: float = 0.0
+    drift_typ: float = 0.0
+    drift_max: float = 0.0
+    ib_typ: float = 0.0
+    ib_max: float = 0.0
+    ios_typ: float = 0.0
+    ios_max: float = 0.0
+    a_typ: float = math.inf
+    a_min: float = math.inf
+    cmrr_typ_db: float = math.inf
+    cmrr_min_db: float = math.inf
+    psrr_typ_db: float = math.inf
+    psrr_min_db: float = math.inf
+    bias_law: BiasLaw = field(default_factory=BiasLaw)
+
+    def __post_init__(self) -> None:
+        for f in dataclasses.fields(self):
+            if f.name in ("name", "description", "bias_law"):
+                continue
+            v = getattr(self, f.name)
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or math.isnan(v):
+                raise BudgetError(
+                    f"op-amp set {self.name!r}: {f.name}={v!r} is not a number; give a float "
+                    "(or build the set with OpAmpParams.from_mapping to read text like '25u')"
+                )
+            if f.name.startswith(("a_", "cmrr", "psrr")):
+                if not v > 0:
+                    raise BudgetError(f"op-amp set {self.name!r}: {f.name}={v} must be > 0")
+            elif f.name != "ib_typ" and f.name != "ib_max" and v < 0:
+                raise BudgetError(
+                    f"op-amp set {self.name!r}: {f.name}={v} is a magnitude; give it >= 0"
+                )
+        if not isinstance(self.bias_law, BiasLaw):
+            raise BudgetError(f"op-amp set {self.name!r}: bias_law must be a BiasLaw")
+
+    # -- values at a grade and temperature ------------------------------------------
+
+    def vos(self, grade: str = "max", temperature: float = REFERENCE_TEMPERATURE) -> float:
+        """Offset magnitude at ``temperature``: Vos + drift·|T − 25 °C|."""
+        g = _check_grade(grade)
+        base, drift = (self.vos_max, self.drift_max) if g == "max" else (
+            self.vos_typ, self.drift_typ)  # fmt: skip
+        return base + drift * abs(float(temperature) - REFERENCE_TEMPERATURE)
+
+    def ib(self, grade: str = "max", temperature: float = REFERENCE_TEMPERATURE) -> float:
+        """Signed bias current at ``temperature`` by the bias law."""
+        base = self.ib_max if _check_grade(grade) == "max" else self.ib_typ
+        return base * self.bias_law.factor(temperature)
+
+    def ios(self, grade: str = "max", temperature: float = REFERENCE_TEMPERATURE) -> float:
+        """Offset-current magnitude at ``temperature``; it follows the bias law too."""
+        base = self.ios_max if _check_grade(grade) == "max" else self.ios_typ
+        return base * self.bias_law.factor(temperature)
+
+    def gain(self, grade: str = "max") -> float:
+        """Open-loop gain, V/V: the minimum for ``grade="max"`` (the worst case)."""
+        return self.a_min if _check_grade(grade) == "max" else self.a_typ
+
+    def cmrr(self, grade: str = "max") -> float:
+        """CMRR as a V/V ratio: the minimum for ``grade="max"``."""
+        db = self.cmrr_min_db if _check_grade(grade) == "max" else self.cmrr_typ_db
+        return db_to_ratio(db)
+
+    def psrr(self, grade: str = "max") -> float:
+        """PSRR as a V/V ratio: the minimum for ``grade="max"``."""
+        db = self.psrr_min_db if _check_grade(grade) == "max" else self.psrr_typ_db
+        return db_to_ratio(db)
+
+    def replace(self, **changes: Any) -> OpAmpParams:
+        """A copy with some fields changed (text like ``"25u"`` is read too).
+
+        Examples
+        --------
+        >>> opamp_parameters("generic CMOS").replace(vos_max="2m").vos_max
+        0.002
+        """
+        return OpAmpParams.from_mapping({**dataclasses.asdict(self), **changes})
+
+    @classmethod
+    def from_mapping(cls, data: Mapping[str, Any]) -> OpAmpParams:
+        """Build a set from a mapping, reading text values with SI prefixes.
+
+        ``bias_law`` may be a :class:`BiasLaw`, ``"constant"``, a mapping
+        ``{"kind": "doubling", "doubling_c": 10}`` or ``"doubling 10"``.
+
+        Examples
+        --------
+        >>> p = OpAmpParams.from_mapping({"name": "mine", "vos_max": "25 µV",
+        ...                               "ib_max": "2 nA", "bias_law": "doubling 10"})
+        >>> p.vos_max, p.bias_law.kind
+        (2.5e-05, 'doubling')
+        """
+        names = {f.name for f in dataclasses.fields(cls)}
+        unknown = sorted(set(data) - names)
+        if unknown:
+            raise BudgetError(
+                f"op-amp set: unknown field(s) {', '.join(unknown)}; "
+                f"the fields are {', '.join(sorted(names))}"
+            )
+        if "name" not in data:
+            raise BudgetError("op-amp set: give it a 'name'")
+        units = {"vos": "V", "dri": "V/°C", "ib_": "A", "ios": "A", "a_t": "V/V", "a_m": "V/V"}
+        kw: dict[str, Any] = {}
+        for key, raw in data.items():
+            where = f"op-amp set {data['name']!r} field {key}"
+            if key in ("name", "description"):
+                kw[key] = str(raw)
+            elif isinstance(raw, (int, float)) and not isinstance(raw, bool):
+                kw[key] = float(raw)  # numbers as they are (inf: "no limit"); checked below
+            elif key == "bias_law":
+                kw[key] = _bias_law(raw, where)
+            elif key.endswith("_db"):
+                kw[key] = _db(raw, where)
+            else:
+                kw[key] = parse_quantity(raw, units.get(key[:3]), where=where)
+        return cls(**kw)
+
+
+def _db(raw: Any, where: str) -> float:
+    if isinstance(raw, str):
+        s = raw.strip()
+        if s.lower().endswith("db"):
+            s = s[:-2]
+        return parse_quantity(s, where=where)
+    return parse_quantity(raw, where=where)
+
+
+def _bias_law(raw: Any, where: str) -> BiasLaw:
+    if isinstance(raw, BiasLaw):
+        return raw
+    if isinstance(raw, Mapping):
+        kind = str(raw.get("kind", "constant"))
+        return BiasLaw(kind, parse_quantity(raw.get("doubling_c", 10.0), where=where))
+    if isinstance(raw, str):
+        m = re.fullmatch(
+            r"\s*(constant|doubling)(?:\s+(?:every\s+)?([0-9.]+)\s*(?:°?C)?)?\s*", raw
+        )
+        if m:
+            return BiasLaw(m.group(1), float(m.group(2)) if m.group(2) else 10.0)
+    raise BudgetError(
+        f"{where}: {raw!r} is not a bias law; write 'constant' or 'doubling 10' "
+        "(doubles every 10 °C)"
+    )
+
+
+@dataclass(frozen=True)
+class ResistorParams:
+    """Resistor tolerance (fraction, ``R = Rnom·(1 + d)``, ``|d| ≤ tolerance``) and TCR (1/°C).
+
+    Examples
+    --------
+    >>> r = ResistorParams.from_text("1%", "100 ppm")
+    >>> r.tolerance, r.tcr
+    (0.01, 0.0001)
+    >>> round(r.spread(85.0), 6)
+    0.016
+    """
+
+    tolerance: float
+    tcr: float = 0.0
+    name: str = ""
+
+    def __post_init__(self) -> None:
+        for label in ("tolerance", "tcr"):
+            v = getattr(self, label)
+            if (
+                isinstance(v, bool)
+                or not isinstance(v, (int, float))
+                or not (math.isfinite(v) and v >= 0)
+            ):
+                raise BudgetError(
+                    f"resistor set {self.name!r}: {label}={v!r} must be a number >= 0 "
+                    "(a fraction: 0.01 for 1 %; TCR per °C: 25e-6 for 25 ppm/°C)"
+                )
+        if self.tolerance >= 1:
+            raise BudgetError(
+                f"resistor set {self.name!r}: tolerance={self.tolerance} is 100 % or more; "
+                "give a fraction such as 0.01 for 1 %"
+            )
+
+    @classmethod
+    def from_text(cls, tolerance: Any, tcr: Any = 0.0, name: str = "") -> ResistorParams:
+        """Read ``"1%"``, ``"0.1 %"``, ``"25 ppm"`` (TCR per °C) or plain numbers."""
+        tcr_text = tcr.replace("/°C", "").replace("/K", "") if isinstance(tcr, str) else tcr
+        return cls(
+            parse_fraction(tolerance, where="resistor tolerance"),
+            parse_fraction(tcr_text, where="resistor TCR"),
+            name,
+        )
+
+    def spread(self, temperature: float = REFERENCE_TEMPERATURE) -> float:
+        """Worst-case fractional deviation at ``temperature``: tolerance + TCR·|T − 25 °C|.
+
+        Each part may drift either way, independently of the others: a
+        conservative reading of a TCR limit (parts that track are better).
+        """
+        return self.tolerance + self.tcr * abs(float(temperature) - REFERENCE_TEMPERATURE)
+
+
+#: Invented generic op-amp sets (no real part): typical / limit values of the usual order.
+OPAMP_SETS: dict[str, OpAmpParams] = {
+    p.name: p
+    for p in (
+        OpAmpParams(
+            "generic precision bipolar",
+            "low offset, low drift bipolar input",
+            vos_typ=1e-05, vos_max=2.5e-05, drift_typ=1e-07, drift_max=6e-07,
+            ib_typ=1e-09, ib_max=2e-09, ios_typ=3e-10, ios_max=2e-09,
+            a_typ=5e6, a_min=1e6, cmrr_typ_db=130, cmrr_min_db=120,
+            psrr_typ_db=120, psrr_min_db=110,
+        ),
+        OpAmpParams(
+            "generic general-purpose bipolar",
+            "an inexpensive bipolar-input amplifier",
+            vos_typ=1e-3, vos_max=5e-3, drift_typ=5e-06, drift_max=2e-05,
+            ib_typ=8e-08, ib_max=5e-07, ios_typ=2e-08, ios_max=2e-07,
+            a_typ=2e5, a_min=2e4, cmrr_typ_db=90, cmrr_min_db=70,
+            psrr_typ_db=90, psrr_min_db=76,
+        ),
+        OpAmpParams(
+            "generic JFET",
+            "JFET input: picoampere bias current that doubles every 10 °C",
+            vos_typ=0.5e-3, vos_max=3e-3, drift_typ=5e-06, drift_max=1.5e-05,
+            ib_typ=3e-11, ib_max=2e-10, ios_typ=5e-12, ios_max=1e-10,
+            a_typ=2e5, a_min=5e4, cmrr_typ_db=100, cmrr_min_db=80,
+            psrr_typ_db=100, psrr_min_db=80, bias_law=BiasLaw("doubling", 10.0),
+        ),
+        OpAmpParams(
+            "generic CMOS",
+            "CMOS input: femto- to picoampere bias current, leakage doubling every 10 °C",
+            vos_typ=0.25e-3, vos_max=1.5e-3, drift_typ=2e-06, drift_max=8e-06,
+            ib_typ=1e-12, ib_max=1e-11, ios_typ=5e-13, ios_max=1e-11,
+            a_typ=1e6, a_min=1e5, cmrr_typ_db=95, cmrr_min_db=80,
+            psrr_typ_db=95, psrr_min_db=80, bias_law=BiasLaw("doubling", 10.0),
+        ),
+        OpAmpParams(
+            "generic zero-drift CMOS",
+            "auto-zero or chopper CMOS: microvolt offset, nanovolt drift",
+            vos_typ=1e-06, vos_max=5e-06, drift_typ=5e-09, drift_max=2e-08,
+            ib_typ=2e-11, ib_max=1e-10, ios_typ=2e-11, ios_max=2e-10,
+            a_typ=1e7, a_min=1e6, cmrr_typ_db=130, cmrr_min_db=115,
+            psrr_typ_db=130, psrr_min_db=115, bias_law=BiasLaw("doubling", 10.0),
+        ),
+    )
+}  # fmt: skip
+
+#: Invented generic resistor grades: tolerance and TCR of the usual order.
+RESISTOR_SETS: dict[str, ResistorParams] = {
+    r.name: r
+    for r in (
+        ResistorParams(0.05, 200e-6, "carbon film 5%"),
+        ResistorParams(0.01, 100e-6, "thick film 1%"),
+        ResistorParams(0.001, 25e-6, "thin film 0.1%"),
+        ResistorParams(0.0001, 5e-6, "precision 0.01%"),
+    )
+}
+
+
+def _normal(name: str) -> str:
+    s = re.sub(r"[\s_\-]+", " ", name.strip().lower())
+    return s.removeprefix("generic ").replace(" %", "%")
+
+
+def _lookup(name: Any, table: dict[str, Any], what: str) -> Any:
+    if isinstance(name, str):
+        want = _normal(name)
+        for key, value in table.items():
+            if _normal(key) == want:
+                return value
+    raise UnknownNameError(
+        f"no {what} named {name!r}; the shipped sets are "
+        f"{', '.join(repr(k) for k in table)} (or build your own)"
+    )
+
+
+def opamp_parameters(name: str) -> OpAmpParams:
+    """Look up a shipped generic op-amp set by name (case, '-' and 'generic' optional).
+
+    Examples
+    --------
+    >>> opamp_parameters("precision-bipolar").vos_max
+    2.5e-05
+    >>> opamp_parameters("fast")
+    Traceback (most recent call last):
+    ...
+    opsym.errors.UnknownNameError: no op-amp set named 'fast'; the shipped sets are \
+'generic precision bipolar', 'generic general-purpose bipolar', 'generic JFET', \
+'generic CMOS', 'generic zero-drift CMOS' (or build your own)
+    """
+    return _lookup(name, OPAMP_SETS, "op-amp set")
+
+
+def resistor_parameters(name: str) -> ResistorParams:
+    """Look up a shipped generic resistor grade by name.
+
+    Examples
+    --------
+    >>> resistor_parameters("thick film 1%").tcr
+    0.0001
+    """
+    return _lookup(name, RESISTOR_SETS, "resistor set")

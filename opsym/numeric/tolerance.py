@@ -1,0 +1,429 @@
+"""Component tolerances: exact corners, a first-order bound and Monte Carlo, side by side.
+
+Each toleranced part is ``x = x_nom·(1 + d)`` with ``|d| ≤ t`` (the part's
+tolerance). Three estimates of the spread of any result quantity ``y`` (a
+signal gain, an error coefficient, a common-mode gain…):
+
+* **Corners** — ``y`` at all ``2^n`` combinations of ``d = ±t``, vectorised.
+  For ``y`` monotone in each part over the tolerance box (true of gains made of
+  resistor ratios, which are linear-fractional in each resistor) the extremes
+  lie on corners, so this is the exact worst case. For other ``y`` it is a lower
+  bound on the true extremes. Used up to ``max_corners`` parts (default 12).
+* **First-order bound** — ``y_nom ± Σ |∂y/∂x_i · x_i| · t_i``: the linearised
+  worst case, cheap for any number of parts, slightly off when tolerances are
+  large (it is symmetric, the true spread is not).
+* **Monte Carlo** — ``d`` drawn per part (uniform on ``±t``, or normal with
+  ``σ = t/3`` clipped to ``±t``, a common practice [trade]); seedable; reports
+  mean, standard deviation and percentiles.
+
+Examples
+--------
+>>> import sympy as sp
+>>> R1, R2 = sp.symbols("R1 R2", positive=True)
+>>> study = tolerance_analysis(1 + R2 / R1, {"R1": 1e3, "R2": 9e3}, {"R1": 0.01, "R2": 0.01},
+...                            samples=2000, seed=1)
+>>> round(study.corner_high / study.nominal - 1, 5), round(study.corner_low / study.nominal - 1, 5)
+(0.01818, -0.01782)
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import sympy as sp
+
+from ..errors import BudgetError
+from .params import ResistorParams
+from .units import format_si, parse_fraction, parse_quantity
+
+__all__ = [
+    "MAX_CORNERS",
+    "MonteCarlo",
+    "ToleranceStudy",
+    "corner_values",
+    "first_order_bound",
+    "monte_carlo",
+    "tolerance_analysis",
+]
+
+#: Default largest number of toleranced parts for which corners are enumerated.
+MAX_CORNERS = 12
+_HARD_LIMIT = 20  # 2^20 corners: about a million evaluations
+_PERCENTILES = (0.135, 2.5, 50.0, 97.5, 99.865)
+
+
+def _resolve(
+    exprs: Sequence[sp.Expr], values: Mapping[Any, Any], tolerances: Any, where: str
+) -> tuple[list[sp.Symbol], np.ndarray, np.ndarray, dict[sp.Symbol, float]]:
+    """Sort the symbols into toleranced parts (with nominal and t) and fixed values."""
+    free: set[sp.Symbol] = set()
+    for e in exprs:
+        free |= {s for s in e.free_symbols if isinstance(s, sp.Symbol)}
+    by_name = {s.name: s for s in free}
+    numbers: dict[sp.Symbol, float] = {}
+    for key, raw in (values or {}).items():
+        name = key.name if isinstance(key, sp.Symbol) else str(key)
+        if name in by_name:
+            numbers[by_name[name]] = parse_quantity(raw, where=f"{where}: value of {name}")
+    if isinstance(tolerances, ResistorParams):
+        # Every component symbol (positive, not an op-amp parameter) gets the same grade.
+        tol = {s: tolerances.tolerance for s in free if s.is_positive and "." not in s.name}
+    elif isinstance(tolerances, Mapping):
+        tol = {}
+        for key, raw in tolerances.items():
+            name = key.name if isinstance(key, sp.Symbol) else str(key)
+            if name not in by_name:
+                continue  # a part that does not affect this quantity
+            t = (
+                raw.tolerance
+                if isinstance(raw, ResistorParams)
+                else parse_fraction(raw, where=f"{where}: tolerance of {name}")
+            )
+            if not (0 <= t < 1):
+                raise BudgetError(
+                    f"{where}: tolerance of {name} is {t}; give a fraction from 0 to <1 "
+                    "(0.01 for 1 %)"
+                )
+            tol[by_name[name]] = t
+    else:
+        raise BudgetError(
+            f"{where}: tolerances must be a mapping {{'R1': 0.01, ...}} or a ResistorParams, "
+            f"not {type(tolerances).__name__}"
+        )
+    missing = sorted(s.name for s in free if s not in numbers)
+    if missing:
+        raise BudgetError(f"{where}: give values for {', '.join(missing)}")
+    parts = sorted((s for s in tol if tol[s] > 0), key=lambda s: s.name)
+    nominal = np.array([numbers[s] for s in parts], dtype=float)
+    t = np.array([tol[s] for s in parts], dtype=float)
+    fixed = {s: v for s, v in numbers.items() if s not in parts}
+    return parts, nominal, t, fixed
+
+
+def _vectorised(expr: sp.Expr, parts: list[sp.Symbol], fixed: Mapping[sp.Symbol, float]):
+    reduced = expr.subs({s: sp.Float(v, 17) for s, v in fixed.items()})
+    leftover = reduced.free_symbols - set(parts)
+    if leftover:
+        names = ", ".join(sorted(s.name for s in leftover))
+        raise BudgetError(f"give values for {names}")
+    # lambdify generates code from the expression tree (never from user text);
+    # dummify because names such as "U1.Vos" are not Python identifiers.
+    f = sp.lambdify(parts, reduced, modules="numpy", dummify=True)
+
+    def call(columns: np.ndarray) -> np.ndarray:
+        out = np.asarray(f(*columns), dtype=float)
+        return np.broadcast_to(out, columns.shape[1:]).copy()
+
+    return call
+
+
+def _corner_signs(n: int) -> np.ndarray:
+    idx = np.arange(2**n, dtype=np.int64)[:, None]
+    bits = (idx >> np.arange(n, dtype=np.int64)) & 1
+    return (2 * bits - 1).astype(float)  # shape (2^n, n), entries ±1
+
+
+def corner_values(
+    exprs: sp.Expr | Sequence[sp.Expr],
+    values: Mapping[Any, Any],
+    tolerances: Any,
+    *,
+    max_corners: int = MAX_CORNERS,
+) -> tuple[tuple[str, ...], np.ndarray, np.ndarray]:
+    """Evaluate one or more expressions at every tolerance corner.
+
+    Returns
+    -------
+    parts : tuple of str
+        The toleranced parts, in column order.
+    signs : ndarray, shape (2^n, n)
+        ±1 for each part at each corner.
+    table : ndarray, shape (k, 2^n)
+        Row ``i`` holds expression ``i`` at each corner (same corner order).
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> R1, R2 = sp.symbols("R1 R2", positive=True)
+    >>> parts, signs, table = corner_values([R2 / R1], {"R1": 1, "R2": 1}, {"R1": 0.5, "R2": 0})
+    >>> parts, table.round(4).tolist()
+    (('R1',), [[2.0, 0.6667]])
+    """
+    many = [exprs] if isinstance(exprs, sp.Expr) else list(exprs)
+    parts, nominal, t, fixed = _resolve(many, values, tolerances, "corner_values")
+    n = len(parts)
+    limit = min(max_corners, _HARD_LIMIT)
+    if n > limit:
+        raise BudgetError(
+            f"corner_values: {n} toleranced parts need 2^{n} corners, over the limit of "
+            f"{limit}; use first_order_bound or monte_carlo, or raise max_corners (≤ "
+            f"{_HARD_LIMIT})"
+        )
+    signs = _corner_signs(n)
+    columns = (nominal * (1.0 + signs * t)).T  # (n, 2^n)
+    table = np.vstack([_vectorised(e, parts, fixed)(columns) for e in many])
+    return tuple(s.name for s in parts), signs, table
+
+
+def first_order_bound(
+    expr: sp.Expr, values: Mapping[Any, Any], tolerances: Any
+) -> tuple[float, float, dict[str, float]]:
+    """Nominal value, linearised worst deviation ``Σ|∂y/∂x·x|·t``, and each part's share.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> R1, R2 = sp.symbols("R1 R2", positive=True)
+    >>> y0, dy, each = first_order_bound(1 + R2 / R1, {"R1": 1e3, "R2": 9e3}, {"R1": "1%",
+    ...                                  "R2": "1%"})
+    >>> round(y0, 6), round(dy, 6)
+    (10.0, 0.18)
+    """
+    parts, nominal, t, fixed = _resolve([expr], values, tolerances, "first_order_bound")
+    at = {**{s: sp.Float(v, 17) for s, v in fixed.items()},
+          **{s: sp.Float(v, 17) for s, v in zip(parts, nominal, strict=True)}}  # fmt: skip
+    y0 = float(expr.subs(at))
+    each = {}
+    for s, x, ti in zip(parts, nominal, t, strict=True):
+        each[s.name] = abs(float(sp.diff(expr, s).subs(at)) * x) * ti
+    return y0, float(sum(each.values())), each
+
+
+@dataclass(frozen=True)
+class MonteCarlo:
+    """Summary of a Monte Carlo run; ``samples`` is a read-only array."""
+
+    distribution: str
+    seed: int | None
+    samples: np.ndarray = field(repr=False)
+    mean: float = 0.0
+    std: float = 0.0
+    low: float = 0.0
+    high: float = 0.0
+    percentiles: Mapping[float, float] = field(default_factory=dict)
+
+    @property
+    def count(self) -> int:
+        """Number of samples drawn."""
+        return int(self.samples.size)
+
+
+def monte_carlo(
+    expr: sp.Expr,
+    values: Mapping[Any, Any],
+    tolerances: Any,
+    *,
+    samples: int = 10000,
+    seed: int | None = None,
+    distribution: str = "uniform",
+) -> MonteCarlo:
+    """Draw every toleranced part at random and evaluate ``expr`` (vectorised).
+
+    ``distribution``: ``"uniform"`` on ``±t``, or ``"normal"`` with ``σ = t/3``
+    clipped to ``±t``. Give ``seed`` for a repeatable run.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> R1, R2 = sp.symbols("R1 R2", positive=True)
+    >>> mc = monte_carlo(R2 / R1, {"R1": 1e3, "R2": 1e3}, {"R1": 0.01, "R2": 0.01},
+    ...                  samples=1000, seed=7)
+    >>> mc.count, 0.98 < mc.low < mc.high < 1.03
+    (1000, True)
+    """
+    if distribution not in ("uniform", "normal"):
+        raise BudgetError(
+            f"monte_carlo: distribution {distribution!r} is not known; use 'uniform' or 'normal'"
+        )
+    if isinstance(samples, bool) or not isinstance(samples, int) or not 1 <= samples <= 10**7:
+        raise BudgetError(f"monte_carlo: samples={samples!r} must be a whole number 1 … 10^7")
+    parts, nominal, t, fixed = _resolve([expr], values, tolerances, "monte_carlo")
+    rng = np.random.default_rng(seed)
+    n = len(parts)
+    if distribution == "uniform":
+        d = rng.uniform(-1.0, 1.0, size=(samples, n)) * t
+    else:
+        d = np.clip(rng.normal(0.0, 1.0, size=(samples, n)) * (t / 3.0), -t, t)
+    y = _vectorised(expr, parts, fixed)((nominal * (1.0 + d)).T)
+    y.flags.writeable = False
+    pct = dict(zip(_PERCENTILES, (float(v) for v in np.percentile(y, _PERCENTILES)), strict=True))
+    return MonteCarlo(
+        distribution, seed, y, float(np.mean(y)), float(np.std(y, ddof=1)) if samples > 1
+        else 0.0, float(np.min(y)), float(np.max(y)), pct,
+    )  # fmt: skip
+
+
+@dataclass(frozen=True)
+class ToleranceStudy:
+    """The three estimates of one quantity's spread, side by side.
+
+    ``corner_low``/``corner_high`` are ``None`` when there were more parts than
+    ``max_corners``; :attr:`low`/:attr:`high` then fall back to the
+    first-order bound.
+    """
+
+    quantity: str
+    nominal: float
+    parts: tuple[str, ...]
+    tolerances: tuple[float, ...]
+    corner_low: float | None
+    corner_high: float | None
+    bound: float
+    bound_shares: Mapping[str, float]
+    mc: MonteCarlo | None
+    unit: str = ""
+
+    @property
+    def low(self) -> float:
+        """Worst low value: the corner minimum if enumerated, else the first-order bound."""
+        return self.corner_low if self.corner_low is not None else self.nominal - self.bound
+
+    @property
+    def high(self) -> float:
+        """Worst high value, as :attr:`low`."""
+        return self.corner_high if self.corner_high is not None else self.nominal + self.bound
+
+    @property
+    def method(self) -> str:
+        """Which estimate :attr:`low`/:attr:`high` come from."""
+        return "corners" if self.corner_low is not None else "first-order bound"
+
+    def table(self):
+        """The side-by-side comparison as an :class:`opsym.output.tables.Table`."""
+        from ..output.tables import Table
+
+        def rel(v: float) -> str:
+            if self.nominal == 0:
+                return "—"
+            return f"{(v / self.nominal - 1) * 100:+.4g} %"
+
+        def val(v: float) -> str:
+            return format_si(v, self.unit, 6) if self.unit else f"{v:.6g}"
+
+        rows = [("nominal", val(self.nominal), "", "")]
+        if self.corner_low is not None:
+            rows.append(
+                (f"corners (2^{len(self.parts)})", val(self.corner_low), val(self.corner_high),
+                 f"{rel(self.corner_low)} / {rel(self.corner_high)}")
+            )  # fmt: skip
+        lo, hi = self.nominal - self.bound, self.nominal + self.bound
+        rows.append(("first-order bound", val(lo), val(hi), f"{rel(lo)} / {rel(hi)}"))
+        if self.mc is not None:
+            p = self.mc.percentiles
+            rows.append(
+                (f"Monte Carlo min/max ({self.mc.count}, {self.mc.distribution})",
+                 val(self.mc.low), val(self.mc.high), f"{rel(self.mc.low)} / {rel(self.mc.high)}")
+            )  # fmt: skip
+            rows.append(
+                ("Monte Carlo 0.135 / 99.865 %", val(p[0.135]), val(p[99.865]),
+                 f"{rel(p[0.135])} / {rel(p[99.865])}")
+            )  # fmt: skip
+        return Table(
+            headers=("estimate", "low", "high", "relative"),
+            rows=tuple(rows),
+            align="lrrr",
+            caption=f"Tolerance study of {self.quantity}",
+            notes=(
+                "Corners: all 2^n combinations of ±t, exact for a quantity monotone in each "
+                "part. First-order bound: nominal ± Σ|∂y/∂x·x|·t.",
+            ),
+        )
+
+    def to_markdown(self) -> str:
+        """Markdown table."""
+        return self.table().to_markdown()
+
+    def to_latex(self) -> str:
+        """LaTeX (booktabs) table."""
+        return self.table().to_latex()
+
+    def to_text(self) -> str:
+        """Plain-text table for a terminal."""
+        return self.table().to_text()
+
+
+def tolerance_analysis(
+    quantity: Any,
+    values: Mapping[Any, Any],
+    tolerances: Any,
+    *,
+    of: Any = "gain",
+    signal: Any = None,
+    samples: int | None = 10000,
+    seed: int | None = None,
+    distribution: str = "uniform",
+    max_corners: int = MAX_CORNERS,
+    unit: str = "",
+) -> ToleranceStudy:
+    """Corners, first-order bound and Monte Carlo for one quantity.
+
+    Parameters
+    ----------
+    quantity : sympy.Expr or opsym Result
+        The quantity; for a Result, ``of`` picks it: ``"gain"`` (the signal's
+        coefficient; ``signal=`` names the signal when there are several) or a
+        source name such as ``"U1.Vos"`` (that source's coefficient).
+    values : mapping
+        Nominal values of every symbol (names → numbers or text like ``"10k"``).
+    tolerances : mapping or ResistorParams
+        ``{"R1": 0.01, "R2": "0.1%"}``, or one grade for every component.
+    samples : int or None
+        Monte Carlo samples; ``None`` skips Monte Carlo.
+    seed : int, optional
+        Random seed for a repeatable Monte Carlo run.
+    distribution : {"uniform", "normal"}
+        Monte Carlo distribution of each part's deviation.
+    max_corners : int
+        Largest part count for corner enumeration (≤ 20).
+    unit : str
+        Unit of the quantity, for tables.
+    """
+    label = "expression"
+    if isinstance(quantity, sp.Expr):
+        expr = quantity
+        label = str(expr) if len(str(expr)) < 40 else "expression"
+    elif hasattr(quantity, "coefficient"):
+        if of == "gain":
+            sig = signal if signal is not None else _only_signal(quantity)
+            expr = quantity.coefficient(sig)
+            label = f"the gain from {sig}"
+        else:
+            expr = quantity.coefficient(of)
+            label = f"the coefficient of {of}"
+    else:
+        raise BudgetError(
+            f"tolerance_analysis: {type(quantity).__name__} is not a SymPy expression or Result"
+        )
+    parts, _nominal, t, _ = _resolve([expr], values, tolerances, "tolerance_analysis")
+    y0, bound, shares = first_order_bound(expr, values, tolerances)
+    lo = hi = None
+    if len(parts) <= min(max_corners, _HARD_LIMIT):
+        _, _, table = corner_values(expr, values, tolerances, max_corners=max_corners)
+        lo, hi = float(np.min(table[0])), float(np.max(table[0]))
+        if not (math.isfinite(lo) and math.isfinite(hi)):
+            raise BudgetError(
+                f"tolerance_analysis: {label} is not finite at some corner; check the values"
+            )
+    mc = None
+    if samples:
+        mc = monte_carlo(
+            expr, values, tolerances, samples=samples, seed=seed, distribution=distribution
+        )
+    return ToleranceStudy(
+        label, y0, tuple(s.name for s in parts), tuple(float(x) for x in t), lo, hi, bound,
+        shares, mc, unit,
+    )  # fmt: skip
+
+
+def _only_signal(result: Any) -> Any:
+    signals = tuple(result.signals)
+    if len(signals) != 1:
+        raise BudgetError(
+            f"tolerance_analysis: the result has {len(signals)} signals "
+            f"({', '.join(map(str, signals)) or 'none'}); name one with signal="
+        )
+    return signals[0]

@@ -1,0 +1,194 @@
+r"""One small table type, written as Markdown, LaTeX (booktabs) or terminal text.
+
+Cells are plain Unicode text (``152.6 µV``, ``±``); :func:`latex_text` turns
+them into LaTeX that pdflatex accepts with only the ``booktabs`` package
+(``\textmu`` and ``\textdegree`` are in the LaTeX kernel's text commands).
+
+Examples
+--------
+>>> t = Table(("source", "output"), (("U1 Vos", "±2.5 mV"), ("U1 Ib", "9.5 mV")), "lr")
+>>> print(t.to_markdown())
+| source | output |
+| :--- | ---: |
+| U1 Vos | ±2.5 mV |
+| U1 Ib | 9.5 mV |
+>>> print(t.to_text())
+source   output
+------  -------
+U1 Vos  ±2.5 mV
+U1 Ib    9.5 mV
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from ..errors import OpsymError
+
+__all__ = ["Table", "latex_text"]
+
+_LATEX_SPECIAL = {
+    "\\": r"\textbackslash{}",
+    "&": r"\&",
+    "%": r"\%",
+    "$": r"\$",
+    "#": r"\#",
+    "_": r"\_",
+    "{": r"\{",
+    "}": r"\}",
+    "~": r"\textasciitilde{}",
+    "^": r"\textasciicircum{}",
+    "µ": r"\textmu{}",
+    "μ": r"\textmu{}",
+    "Ω": r"$\Omega$",
+    "\u2126": r"$\Omega$",
+    "±": r"$\pm$",
+    "°": r"\textdegree{}",
+    "×": r"$\times$",
+    "−": r"$-$",
+    "–": "--",
+    "—": "---",
+    "…": r"\ldots{}",
+    "‖": r"$\parallel$",
+    "√": r"$\surd$",
+    "≤": r"$\leq$",
+    "≥": r"$\geq$",
+    "≈": r"$\approx$",
+    "Σ": r"$\Sigma$",
+    "∂": r"$\partial$",
+    "∞": r"$\infty$",
+    "Δ": r"$\Delta$",
+    "²": r"\textsuperscript{2}",
+    "·": r"$\cdot$",
+    "§": r"\S{}",
+    "|": r"\textbar{}",
+    "<": r"\textless{}",
+    ">": r"\textgreater{}",
+    "→": r"$\rightarrow$",
+}
+
+
+def latex_text(text: str) -> str:
+    r"""Escape plain text for LaTeX text mode, mapping the trade's symbols.
+
+    Characters with no mapping outside ASCII are replaced by ``?`` so that the
+    document still compiles.
+
+    Examples
+    --------
+    >>> latex_text("±25 µV (1 %)")
+    '$\\pm$25 \\textmu{}V (1 \\%)'
+    """
+    out = []
+    for ch in str(text):
+        if ch in _LATEX_SPECIAL:
+            out.append(_LATEX_SPECIAL[ch])
+        elif ord(ch) < 128:
+            out.append(ch)
+        else:
+            out.append("?")
+    return "".join(out)
+
+
+@dataclass(frozen=True)
+class Table:
+    r"""A table of text cells.
+
+    Attributes
+    ----------
+    headers : tuple of str
+    rows : tuple of tuple of str
+        Body rows.
+    align : str
+        One of ``l``, ``r``, ``c`` per column.
+    caption : str
+        Printed above (text, Markdown) or as ``\caption`` (LaTeX).
+    footer : tuple of tuple of str
+        Summary rows (totals), set off by a rule.
+    notes : tuple of str
+        Lines printed under the table (rules used, assumptions).
+    """
+
+    headers: tuple[str, ...]
+    rows: tuple[tuple[str, ...], ...]
+    align: str = ""
+    caption: str = ""
+    footer: tuple[tuple[str, ...], ...] = ()
+    notes: tuple[str, ...] = ()
+
+    def __post_init__(self) -> None:
+        n = len(self.headers)
+        align = self.align or "l" + "r" * (n - 1)
+        if len(align) != n or set(align) - set("lrc"):
+            raise OpsymError(f"table align {self.align!r} must give l, r or c for {n} columns")
+        object.__setattr__(self, "align", align)
+        for row in (*self.rows, *self.footer):
+            if len(row) != n:
+                raise OpsymError(f"table row {row!r} has {len(row)} cells, expected {n}")
+
+    def to_markdown(self) -> str:
+        """GitHub-flavoured Markdown; footer rows in bold."""
+
+        def cell(s: str) -> str:
+            return str(s).replace("|", r"\|")
+
+        rule = {"l": ":---", "r": "---:", "c": ":---:"}
+        lines = []
+        if self.caption:
+            lines += [f"**{cell(self.caption)}**", ""]
+        lines.append("| " + " | ".join(cell(h) for h in self.headers) + " |")
+        lines.append("| " + " | ".join(rule[a] for a in self.align) + " |")
+        for row in self.rows:
+            lines.append("| " + " | ".join(cell(c) for c in row) + " |")
+        for row in self.footer:
+            lines.append("| " + " | ".join(f"**{cell(c)}**" if c else "" for c in row) + " |")
+        if self.notes:
+            lines.append("")
+            lines += ["- " + n for n in self.notes]
+        return "\n".join(lines)
+
+    def to_latex(self, *, float_env: bool = True) -> str:
+        r"""A booktabs ``tabular``; in a ``table`` float with caption unless ``float_env=False``.
+
+        Needs ``\usepackage{booktabs}`` in the document.
+        """
+        body = [
+            r"\begin{tabular}{" + self.align + "}",
+            r"\toprule",
+            " & ".join(latex_text(h) for h in self.headers) + r" \\",
+            r"\midrule",
+        ]
+        body += [" & ".join(latex_text(c) for c in row) + r" \\" for row in self.rows]
+        if self.footer:
+            body.append(r"\midrule")
+            body += [" & ".join(latex_text(c) for c in row) + r" \\" for row in self.footer]
+        body += [r"\bottomrule", r"\end{tabular}"]
+        notes = [r"\par\smallskip{\footnotesize " + latex_text(n) + "}" for n in self.notes]
+        if not float_env:
+            return "\n".join(body + notes)
+        head = [r"\begin{table}[htbp]", r"\centering"]
+        if self.caption:
+            head.append(r"\caption{" + latex_text(self.caption) + "}")
+        return "\n".join(head + body + notes + [r"\end{table}"])
+
+    def to_text(self) -> str:
+        """Aligned columns for a terminal (monospace)."""
+        grid = [self.headers, *self.rows, *self.footer]
+        widths = [max(len(str(r[i])) for r in grid) for i in range(len(self.headers))]
+
+        def line(row: tuple[str, ...]) -> str:
+            cells = []
+            for text, w, a in zip(row, widths, self.align, strict=True):
+                s = str(text)
+                cells.append(s.ljust(w) if a == "l" else s.rjust(w) if a == "r" else s.center(w))
+            return "  ".join(cells).rstrip()
+
+        rule = "  ".join("-" * w for w in widths)
+        lines = [self.caption] if self.caption else []
+        lines += [line(self.headers), rule]
+        lines += [line(r) for r in self.rows]
+        if self.footer:
+            lines.append(rule)
+            lines += [line(r) for r in self.footer]
+        lines += list(self.notes)
+        return "\n".join(lines)
