@@ -16,12 +16,15 @@ Examples
 <class 'opsym.model.circuit.Circuit'>
 """
 
+from .analyses.result import Result, SourceInfo
 from .errors import (
+    BudgetError,
     CircuitError,
     DesignFileError,
     DuplicateNameError,
     FloatingNodeError,
     InvalidValueError,
+    MissingDependencyError,
     NoFeedbackError,
     NoSolutionError,
     OpsymError,
@@ -29,6 +32,9 @@ from .errors import (
     UnknownNameError,
     ValueSyntaxError,
 )
+from .io.designfile import Design, load_design, parse_design
+from .io.values import parse_value
+from .io.writer import dump_design
 from .model import (
     BiasCurrents,
     Circuit,
@@ -39,28 +45,73 @@ from .model import (
     SeriesVoltage,
     SupplyRejection,
 )
+from .numeric import (
+    ADC,
+    BiasLaw,
+    Budget,
+    OpAmpParams,
+    ResistorParams,
+    budget_over_temperature,
+    choose_for_null,
+    corner_values,
+    error_budget,
+    format_si,
+    monte_carlo,
+    opamp_parameters,
+    parse_quantity,
+    preferred_value,
+    resistor_parameters,
+    tolerance_analysis,
+)
+from .output import design_note
 
 __version__ = "0.1.0"
 
 __all__ = [
+    "ADC",
     "BiasCurrents",
+    "BiasLaw",
+    "Budget",
+    "BudgetError",
     "Circuit",
     "CircuitError",
     "CommonModeRejection",
+    "Design",
     "DesignFileError",
     "DuplicateNameError",
     "FloatingNodeError",
     "InputOffset",
     "InvalidValueError",
+    "MissingDependencyError",
     "NoFeedbackError",
     "NoSolutionError",
     "NonIdeal",
+    "OpAmpParams",
     "OpsymError",
     "PinCurrent",
+    "ResistorParams",
+    "Result",
     "SeriesVoltage",
     "SingularCircuitError",
+    "SourceInfo",
     "SupplyRejection",
     "UnknownNameError",
     "ValueSyntaxError",
     "__version__",
+    "budget_over_temperature",
+    "choose_for_null",
+    "corner_values",
+    "design_note",
+    "dump_design",
+    "error_budget",
+    "format_si",
+    "load_design",
+    "monte_carlo",
+    "opamp_parameters",
+    "parse_design",
+    "parse_quantity",
+    "parse_value",
+    "preferred_value",
+    "resistor_parameters",
+    "tolerance_analysis",
 ]

@@ -1,0 +1,332 @@
+"""The ``opsym`` command: a worked demo, and reports from design files.
+
+Commands::
+
+    opsym demo                      a worked example in an invented scenario
+    opsym check FILE...             read design files and report what is wrong
+    opsym report FILE [options]     every term, the conditions and the budget
+    opsym rewrite FILE              print the design file as opsym writes it
+
+``opsym report`` prints its summary on standard output; ``--latex``,
+``--markdown`` and ``--figures`` write design notes and figures as well.
+Progress of long derivations goes to standard error.
+
+Exit status: 0 on success, 2 when the input is at fault (a design file that
+cannot be read, a value missing for the budget...), 1 on an internal fault.
+
+Examples
+--------
+>>> main(["check", "no-such-file.toml"])
+2
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import time
+from collections.abc import Sequence
+from pathlib import Path
+from typing import Any, TextIO
+
+from . import __version__
+from .errors import OpsymError
+
+__all__ = ["main"]
+
+_BUG = "this is a bug in opsym; please report it with the design file and this message"
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run the command line; return the exit status (0, 1 or 2)."""
+    parser = _parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "run", None):
+        parser.print_help(sys.stderr)
+        return 2
+    try:
+        return int(args.run(args) or 0)
+    except OpsymError as err:
+        _fail(str(err))
+        return 2
+    except KeyboardInterrupt:
+        _fail("interrupted")
+        return 130
+    except BrokenPipeError:  # e.g. `opsym report f.toml | head`
+        return 0
+    except Exception as err:  # the last line of defence: no traceback, but say it is a bug
+        _fail(f"internal error ({type(err).__name__}: {err}); {_BUG}")
+        return 1
+
+
+def _fail(message: str) -> None:
+    print(f"opsym: error: {message}", file=sys.stderr)
+
+
+def _parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="opsym",
+        description="Closed-form error terms of op-amp circuits: offset, bias currents, "
+        "finite gain, CMRR and PSRR, with null conditions and error budgets.",
+        epilog="Design files are described in docs/design-files.md. "
+        "Run 'opsym COMMAND --help' for each command's options.",
+    )
+    parser.add_argument("--version", action="version", version=f"opsym {__version__}")
+    commands = parser.add_subparsers(title="commands", metavar="COMMAND")
+
+    demo = commands.add_parser(
+        "demo", help="print a worked example", description="Derive and print a worked "
+        "example (a two-stage sensor front end, invented values).",
+    )  # fmt: skip
+    demo.set_defaults(run=_demo)
+
+    check = commands.add_parser(
+        "check", help="read design files and report problems",
+        description="Read each design file and check it (names, values, connections) "
+        "without deriving anything. Prints one line per file.",
+    )  # fmt: skip
+    check.add_argument("files", nargs="+", metavar="FILE", help="design files (.toml)")
+    check.set_defaults(run=_check)
+
+    report = commands.add_parser(
+        "report", help="derive a design file and print every term, condition and budget",
+        description="Derive the output of a design file in closed form, run the analyses it "
+        "asks for, print a summary and optionally write design notes and figures. Nothing is "
+        "written unless every analysis succeeds.",
+    )  # fmt: skip
+    report.add_argument("file", metavar="FILE", help="design file (.toml)")
+    report.add_argument("--latex", metavar="PATH", type=Path, help="write a LaTeX design note")
+    report.add_argument(
+        "--standalone", action="store_true",
+        help="with --latex: write a complete document that compiles on its own",
+    )  # fmt: skip
+    report.add_argument(
+        "--markdown", metavar="PATH", type=Path, help="write a Markdown design note"
+    )
+    report.add_argument(
+        "--figures", metavar="DIR", type=Path,
+        help="write figures (PNG) into DIR: contributions, temperature, Monte Carlo",
+    )  # fmt: skip
+    report.add_argument(
+        "--quiet", "-q", action="store_true", help="no summary on standard output, no progress"
+    )
+    report.set_defaults(run=_report)
+
+    rewrite = commands.add_parser(
+        "rewrite", help="print a design file as opsym writes it",
+        description="Read a design file and print it in opsym's own layout (the same design: "
+        "comments are not kept).",
+    )  # fmt: skip
+    rewrite.add_argument("file", metavar="FILE", help="design file (.toml)")
+    rewrite.set_defaults(run=_rewrite)
+    return parser
+
+
+# -- commands ------------------------------------------------------------------------------
+
+
+def _demo(args: argparse.Namespace) -> int:
+    from .demo import run  # imported here: the demo pulls in the whole library
+
+    return int(run(sys.stdout))
+
+
+def _check(args: argparse.Namespace) -> int:
+    from .io.designfile import load_design
+
+    failed = 0
+    for name in args.files:
+        try:
+            d = load_design(name)
+        except OpsymError as err:
+            _fail(str(err))
+            failed += 1
+            continue
+        out = d.output if isinstance(d.output, str) else " - ".join(d.output)
+        print(f"{name}: ok: {d.title!r}, {len(d.circuit.elements)} elements, output {out}")
+    return 2 if failed else 0
+
+
+def _rewrite(args: argparse.Namespace) -> int:
+    from .io.designfile import load_design
+    from .io.writer import dump_design
+
+    sys.stdout.write(dump_design(load_design(args.file)))
+    return 0
+
+
+def _report(args: argparse.Namespace) -> int:
+    from .io.designfile import load_design
+    from .io.study import run_design
+
+    design = load_design(args.file)
+    progress = None if args.quiet else _Progress(sys.stderr)
+    study = run_design(design, progress=progress)
+    if progress is not None:
+        progress.close()
+    plans = _figure_plans(study, args.figures) if args.figures is not None else []
+    figures = [(path, caption) for path, caption, _ in plans]
+    files: dict[Path, str] = {}
+    if args.latex is not None:
+        files[args.latex] = _note(study, "latex", figures, args.latex, args.standalone)
+    if args.markdown is not None:
+        files[args.markdown] = _note(study, "markdown", figures, args.markdown, False)
+    _write_all(plans, files)
+    if not args.quiet:
+        _summary(study, sys.stdout)
+        for path in [*(p for p, _ in figures), *files]:
+            print(f"wrote {path}", file=sys.stderr)
+    return 0
+
+
+class _OutputError(OpsymError, OSError):
+    """An output file could not be written (a user-side fault: exit status 2)."""
+
+
+# -- report parts ------------------------------------------------------------------------
+
+
+def _figure_plans(study: Any, directory: Path) -> list[tuple[Path, str, Any]]:
+    """The figures this study can draw: (path, caption, draw function)."""
+    from .output.figures import contribution_chart, monte_carlo_histogram, temperature_chart
+
+    plans: list[tuple[Path, str, Any]] = []
+    if study.budget is not None:
+        plans.append((directory / "contributions.png", "Error contributions",
+                      lambda p: contribution_chart(study.budget, p)))  # fmt: skip
+    if study.sweep is not None:
+        plans.append((directory / "temperature.png", "Error over temperature",
+                      lambda p: temperature_chart(study.sweep, p)))  # fmt: skip
+    for i, s in enumerate(study.studies, start=1):
+        if s.mc is not None:
+            plans.append((directory / f"monte-carlo-{i}.png", f"Monte Carlo: {s.quantity}",
+                          lambda p, s=s: monte_carlo_histogram(s, p)))  # fmt: skip
+    if not plans:
+        raise _OutputError(
+            "--figures: this design has nothing to draw; give op-amp parameter sets "
+            "(for a budget) or a [tolerance] study"
+        )
+    return plans
+
+
+def _write_all(plans: list[tuple[Path, str, Any]], files: dict[Path, str]) -> None:
+    """Draw every figure in a scratch directory, then write figures and notes together."""
+    import shutil
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as tmp:
+        drawn = []
+        for i, (path, _caption, draw) in enumerate(plans):
+            scratch = Path(tmp) / f"{i}{path.suffix}"
+            draw(scratch)
+            drawn.append((scratch, path))
+        try:
+            for scratch, path in drawn:
+                path.parent.mkdir(parents=True, exist_ok=True)
+                shutil.copyfile(scratch, path)
+            for path, text in files.items():
+                path.parent.mkdir(parents=True, exist_ok=True)
+                path.write_text(text, encoding="utf-8")
+        except OSError as err:
+            raise _OutputError(f"cannot write {err.filename or 'the output'}: "
+                               f"{err.strerror or err}") from None  # fmt: skip
+
+
+def _note(study: Any, fmt: str, figures: list[tuple[Path, str]], path: Path, standalone: bool):
+    import os
+
+    from .output.notes import design_note
+
+    here = path.parent.resolve()
+    figs = [(Path(os.path.relpath(p.resolve(), here)), caption) for p, caption in figures]
+    return design_note(
+        study.result, study.budget, title=None, conditions=study.conditions,
+        choices=study.choices, studies=study.studies, sweep=study.sweep, figures=figs,
+        fmt=fmt, standalone=standalone,
+    )  # fmt: skip
+
+
+def _summary(study: Any, out: TextIO) -> None:
+    from .numeric.units import format_si
+
+    d, res = study.design, study.result
+
+    def say(text: str = "") -> None:
+        print(text, file=out)
+
+    target = d.output if isinstance(d.output, str) else f"{d.output[0]} - {d.output[1]}"
+    say(f"{d.title}  ({d.source})")
+    say("=" * min(78, max(20, len(d.title) + len(d.source) + 4)))
+    if d.notes:
+        say(d.notes)
+        say()
+    say("Elements:")
+    for e in d.circuit.elements:
+        value = d.values.get(e.name)
+        shown = f" = {format_si(float(value), _unit_of(e))}" if value is not None else ""
+        say(f"  {e.describe()}{shown}")
+    say()
+    say(f"Terms of V({target}), each source times its coefficient:")
+    width = max((len(str(s)) for s in res.terms), default=4)
+    for source, coeff in res.terms.items():
+        number = study.numbers.get(source)
+        tail = f"   [= {number:.6g}]" if number is not None and not coeff.is_number else ""
+        say(f"  {source!s:>{width}} x {coeff}{tail}")
+    if study.conditions:
+        say()
+        say("Null conditions:")
+        for request, eq in zip(d.nulls, study.conditions, strict=True):
+            say(f"  {request}: {eq.lhs} = {eq.rhs}")
+        for choice in study.choices:
+            say(f"    {choice.describe()}")
+    if study.sensitivities:
+        say()
+        kind = "Normalized sensitivities" if d.sensitivity.normalized else "Sensitivities"
+        say(f"{kind} (of a coefficient to a component):")
+        for of, to, s in study.sensitivities:
+            say(f"  S({of}, {to}) = {s}")
+    if study.budget is not None:
+        say()
+        say(study.budget.to_text())
+    if study.sweep is not None:
+        say()
+        say(study.sweep.to_text())
+    for s in study.studies:
+        say()
+        say(s.to_text())
+
+
+def _unit_of(element: Any) -> str:
+    return {"resistor": "Ω", "capacitor": "F", "voltage source": "V", "current source": "A"}.get(
+        element.kind, ""
+    )
+
+
+class _Progress:
+    """Progress on standard error: silent for quick solves, one updating line otherwise."""
+
+    def __init__(self, stream: TextIO, delay: float = 1.0) -> None:
+        self.stream = stream
+        self.start = time.monotonic()
+        self.delay = delay
+        self.shown = False
+        self.last = 0.0
+        self.tty = bool(getattr(stream, "isatty", lambda: False)())
+
+    def __call__(self, done: int, total: int, what: str) -> None:
+        now = time.monotonic()
+        if now - self.start < self.delay or (now - self.last < 0.5 and done < total):
+            return
+        self.last = now
+        line = f"opsym: solving {done}/{total} {what}"[:78]
+        if self.tty:
+            self.stream.write("\r" + line.ljust(78))
+        else:
+            self.stream.write(line + "\n")
+        self.stream.flush()
+        self.shown = True
+
+    def close(self) -> None:
+        if self.shown and self.tty:
+            self.stream.write("\n")
+            self.stream.flush()

@@ -1,0 +1,635 @@
+"""Design files: a circuit, its numbers and the analyses wanted, in TOML.
+
+The format is described in ``docs/design-files.md``. :func:`load_design` reads
+a file into a :class:`Design` (an :class:`opsym.Circuit` plus its settings);
+:func:`parse_design` does the same for text. Every value goes through the
+whitelist parser :func:`~opsym.io.values.parse_value`; nothing in a file is
+ever evaluated. Unknown keys are errors, and every error names the file, the
+table, the key and (when it can be found) the line.
+
+Examples
+--------
+>>> from opsym.io.designfile import parse_design
+>>> d = parse_design('''
+... title = "inverting stage"
+... output = "out"
+... [resistors]
+... R1 = { between = ["in", "n"], value = "10k" }
+... R2 = { between = ["n", "out"], value = "100k" }
+... [voltage-sources]
+... Vin = { plus = "in", minus = "0" }
+... [opamps.U1]
+... plus = "0"
+... minus = "n"
+... out = "out"
+... ''')
+>>> d.analyze().coefficient("Vin")
+-R2/R1
+>>> d.values["R2"]
+100000
+>>> parse_design('output = "out"\\n[resistors]\\nR1 = { between = ["a", "0"], colour = "red" }',
+...              filename="bad.toml")  # doctest: +ELLIPSIS
+Traceback (most recent call last):
+...
+opsym.errors.DesignFileError: bad.toml [resistors.R1] (line 3): unknown key 'colour'; ...
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from types import MappingProxyType
+from typing import TYPE_CHECKING, Any
+
+import sympy as sp
+
+from ..errors import DesignFileError, InvalidValueError, OpsymError
+from ..model.circuit import Circuit
+from ..model.elements import CurrentSource, Resistor, VoltageSource
+from ..model.nonideal import KINDS
+from ..model.symbols import OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
+from ..model.topology import check_topology
+from ..numeric.eseries import SERIES
+from ..numeric.params import OpAmpParams, ResistorParams, opamp_parameters, resistor_parameters
+from ._tables import Locator, Table
+
+if sys.version_info >= (3, 11):
+    import tomllib
+else:  # pragma: no cover - Python 3.10 reads TOML with the tomli backport
+    import tomli as tomllib
+
+if TYPE_CHECKING:
+    from ..analyses.result import Result
+
+__all__ = [
+    "ELEMENT_TABLES",
+    "FORMAT",
+    "PARAMETER_UNITS",
+    "BudgetSettings",
+    "Design",
+    "NullRequest",
+    "SensitivityRequest",
+    "ToleranceSettings",
+    "load_design",
+    "parse_design",
+]
+
+#: The design-file format this version reads and writes.
+FORMAT = 1
+_MAX_BYTES = 1_000_000
+
+#: Element tables, in the order they are read and written.
+ELEMENT_TABLES = ("resistors", "capacitors", "voltage-sources", "current-sources", "opamps")
+_TOP_KEYS = ("format", "title", "notes", "output", "input", *ELEMENT_TABLES)
+_SETTING_TABLES = ("analysis", "budget", "tolerance")
+_DEFAULT_INCLUDE = ("offset", "bias")
+#: Op-amp parameter fields and the unit of each (``None``: a plain ratio).
+PARAMETER_UNITS: dict[str, str | None] = {
+    "vos_typ": "V", "vos_max": "V", "drift_typ": "V/°C", "drift_max": "V/°C",
+    "ib_typ": "A", "ib_max": "A", "ios_typ": "A", "ios_max": "A",
+    "a_typ": None, "a_min": None,
+    "cmrr_typ_db": "dB", "cmrr_min_db": "dB", "psrr_typ_db": "dB", "psrr_min_db": "dB",
+}  # fmt: skip
+
+
+@dataclass(frozen=True)
+class NullRequest:
+    """``term by component``: the value of ``component`` that nulls ``term``'s coefficient."""
+
+    term: str
+    by: str
+
+    def __str__(self) -> str:
+        return f"{self.term} by {self.by}"
+
+
+@dataclass(frozen=True)
+class SensitivityRequest:
+    """Sensitivities of the coefficients ``of`` (``"gain"`` or sources) to components ``to``."""
+
+    of: tuple[str, ...] = ("gain",)
+    to: tuple[str, ...] = ()
+    normalized: bool = True
+
+
+@dataclass(frozen=True)
+class BudgetSettings:
+    """How to put numbers into the error budget (see :func:`opsym.numeric.budget.error_budget`).
+
+    ``temperatures`` lists the temperatures (°C) to evaluate; ``adc_bits`` with
+    ``adc_reference`` (V) and ``adc_range`` describe the converter;
+    ``full_scale`` (V) is the output span for ppm of full scale.
+    """
+
+    grade: str = "max"
+    temperatures: tuple[float, ...] = (25.0,)
+    full_scale: sp.Expr | None = None
+    adc_bits: int | None = None
+    adc_reference: sp.Expr | None = None
+    adc_range: str = "unipolar"
+
+
+@dataclass(frozen=True)
+class ToleranceSettings:
+    """A tolerance study of ``of`` (``"gain"`` or sources): corners, bound and Monte Carlo."""
+
+    of: tuple[str, ...] = ("gain",)
+    samples: int = 10000
+    seed: int | None = None
+    distribution: str = "uniform"
+
+
+@dataclass(frozen=True)
+class Design:
+    """A loaded design file: the circuit, its numbers and the analyses wanted.
+
+    Attributes
+    ----------
+    circuit : opsym.Circuit
+        Elements with ``symbolic = false`` carry their number; the rest are
+        symbols, so results stay in closed form.
+    output : str or (str, str)
+        Output node, or the (plus, minus) pair of a differential output.
+    values : mapping of str to sympy.Expr
+        Nominal numbers by name (``"R1"``, ``"Vin"``, ``"U1.Vcm"``), put in
+        after the derivation.
+    signal : str or None
+        The input signal for gain, gain error and input-referred errors.
+    opamps : mapping of str to OpAmpParams
+        The parameter set of each op-amp that has one.
+    resistors : mapping of str to ResistorParams
+        Tolerance and TCR of each resistor that has them (own or the default).
+    resistor_default : ResistorParams or None
+        The grade ``[tolerance] resistors`` gives every resistor without its own.
+    nulls, sensitivity, budget, tolerance
+        The analyses asked for (``None``: not asked).
+    average_bias : bool
+        Report bias terms as ``Ib``/``Ios`` (true) or ``Ib+``/``Ib-``.
+    notes : str
+        Free text for the design notes.
+    series : str
+        The E-series for the standard values that meet null conditions.
+    source : str
+        The file it came from (``"<text>"`` for text).
+    """
+
+    circuit: Circuit
+    output: str | tuple[str, str]
+    values: Mapping[str, sp.Expr] = field(default_factory=dict)
+    signal: str | None = None
+    opamps: Mapping[str, OpAmpParams] = field(default_factory=dict)
+    resistors: Mapping[str, ResistorParams] = field(default_factory=dict)
+    nulls: tuple[NullRequest, ...] = ()
+    sensitivity: SensitivityRequest | None = None
+    budget: BudgetSettings | None = None
+    tolerance: ToleranceSettings | None = None
+    average_bias: bool = True
+    notes: str = ""
+    source: str = "<text>"
+    resistor_default: ResistorParams | None = None
+    series: str = "E96"
+
+    def __post_init__(self) -> None:
+        for name in ("values", "opamps", "resistors"):
+            object.__setattr__(self, name, MappingProxyType(dict(getattr(self, name))))
+
+    @property
+    def title(self) -> str:
+        """The circuit's title."""
+        return self.circuit.title
+
+    def analyze(self, progress: Callable[[int, int, str], Any] | None = None) -> Result:
+        """Derive the output in closed form (``Ib±`` as ``Ib``/``Ios`` if ``average_bias``)."""
+        result = self.circuit.analyze(self.output, progress=progress)
+        return result.with_average_bias() if self.average_bias else result
+
+    def numeric_values(self) -> dict[str, float]:
+        """The nominal numbers as floats, for the numeric analyses."""
+        return {k: float(v) for k, v in self.values.items()}
+
+
+def load_design(path: str | os.PathLike[str]) -> Design:
+    """Read a design file.
+
+    Raises
+    ------
+    DesignFileError
+        The file cannot be read, is not TOML, or does not describe a design;
+        the message names the file, table, key and line. Errors of the circuit
+        model (a floating node, say) come as a DesignFileError too, with the
+        model's exception as ``__cause__``.
+    """
+    name = os.fspath(path)
+    try:
+        with open(name, "rb") as f:
+            data = f.read(_MAX_BYTES + 1)
+    except OSError as err:
+        reason = err.strerror or str(err)
+        raise DesignFileError(f"{name}: cannot read the design file: {reason}") from None
+    if len(data) > _MAX_BYTES:
+        raise DesignFileError(f"{name}: larger than {_MAX_BYTES} bytes; is it a design file?")
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as err:
+        raise DesignFileError(
+            f"{name}: not UTF-8 text (byte {err.start}); save the file as UTF-8"
+        ) from None
+    return parse_design(text, filename=name)
+
+
+def parse_design(text: str, *, filename: str = "<text>") -> Design:
+    """Read a design from TOML text; ``filename`` is used in messages."""
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        raise DesignFileError(f"{filename}: not valid TOML: {err}") from None
+    return _Reader(data, Locator(filename, text)).read()
+
+
+class _Reader:
+    def __init__(self, data: dict[str, Any], locator: Locator) -> None:
+        self.top = Table(data, (), locator)
+        self.file = locator.filename
+        self.names: dict[str, sp.Expr] = {}
+        self.values: dict[str, sp.Expr] = {}
+        self.opamps: dict[str, OpAmpParams] = {}
+        self.resistors: dict[str, ResistorParams] = {}
+        self.circuit = Circuit()
+        self.kinds: dict[str, tuple[str, ...]] = {}
+
+    def read(self) -> Design:
+        top = self.top
+        fmt = top.take_int("format", FORMAT, low=1, high=10**6)
+        if fmt != FORMAT:
+            raise top.error("format", f"format {fmt} is not known; this opsym reads format 1")
+        title = top.take_str("title", default=None)
+        notes = top.take_str("notes", default="") or ""
+        if title is None:
+            stem = os.path.splitext(os.path.basename(self.file))[0]
+            title = stem if self.file != "<text>" else "design"
+        circuit = Circuit(title)
+        tables = {t: top.sub(t) for t in ELEMENT_TABLES}
+        if not any(tables.values()):
+            raise top.error(
+                None, "the design has no elements; add [resistors], [opamps] and so on"
+            )
+        self.collect_names(tables)
+        equations: dict[str, tuple[Table, str]] = {}
+        for kind in ELEMENT_TABLES:
+            table = tables[kind]
+            if table is None:
+                continue
+            for name, body in table.items():
+                if not isinstance(body, dict):
+                    raise table.error(
+                        name, f"an element is a table; write {name} = {{ ... }} or [{kind}.{name}]"
+                    )
+                self.element(
+                    circuit, kind, name, Table(body, (kind, name), top.locator), equations
+                )
+        self.circuit = circuit
+        self.kinds = {a.name: tuple(n.kind for n in a.nonideals) for a in circuit.opamps}
+        self.check_equations(equations)
+        output = self.output(circuit)
+        signal = self.signal(circuit)
+        settings = {t: top.sub(t) for t in _SETTING_TABLES}
+        top.finish()
+        analysis = settings["analysis"]
+        nulls: tuple[NullRequest, ...] = ()
+        sensitivity = None
+        average = True
+        series = "E96"
+        if analysis is not None:
+            nulls = tuple(self.null(analysis, text) for text in analysis.take_strings("nulls"))
+            sensitivity = self.sensitivity(analysis, circuit)
+            average = analysis.take_bool("average-bias", True)
+            series = analysis.take_str("series", "E96", choices=tuple(SERIES)) or "E96"
+            analysis.finish()
+        budget = self.budget(settings["budget"]) if settings["budget"] else None
+        default, tolerance = self.tolerance(settings["tolerance"], circuit)
+        try:
+            check_topology(circuit)
+        except OpsymError as err:
+            raise DesignFileError(f"{self.file}: {err}") from err
+        return Design(
+            circuit, output, self.values, signal, self.opamps, self.resistors, nulls,
+            sensitivity, budget, tolerance, average, notes, self.file, default, series,
+        )  # fmt: skip
+
+    # -- elements ----------------------------------------------------------------------
+
+    def collect_names(self, tables: Mapping[str, Table | None]) -> None:
+        for kind, table in tables.items():
+            if table is None:
+                continue
+            for name in table.data:
+                if kind == "opamps":
+                    for what in OPAMP_PARAMETERS:
+                        self.names[f"{name}.{what}"] = opamp_symbol(name, what)
+                elif kind.endswith("sources"):
+                    self.names[name] = source_symbol(name)
+                else:
+                    self.names[name] = component_symbol(name)
+
+    def element(
+        self, circuit: Circuit, kind: str, name: str, t: Table,
+        equations: dict[str, tuple[Table, str]],
+    ) -> None:  # fmt: skip
+        try:
+            if kind == "opamps":
+                self.opamp(circuit, name, t)
+            else:
+                self.two_terminal(circuit, kind, name, t, equations)
+        except DesignFileError:
+            raise
+        except OpsymError as err:
+            raise t.wrap(None, err) from err
+        t.finish()
+
+    def two_terminal(
+        self, circuit: Circuit, kind: str, name: str, t: Table,
+        equations: dict[str, tuple[Table, str]],
+    ) -> None:  # fmt: skip
+        unit = {"resistors": "Ω", "capacitors": "F", "voltage-sources": "V"}.get(kind, "A")
+        if kind == "voltage-sources":
+            a, b = t.take_node("plus"), t.take_node("minus")
+        elif kind == "current-sources":
+            a, b = t.take_node("from"), t.take_node("into")
+        else:
+            a, b = t.take_nodes("between", 2)
+        value = t.take_value("value", unit=unit)
+        equals = None
+        if t.has("equals"):
+            if value is not None:
+                raise t.error("equals", "give either 'value' (a number) or 'equals', not both")
+            equals = t.take_value("equals", unit=unit, names=self.names)
+            equations[name] = (t, "equals")
+        symbolic = t.take_bool("symbolic", True)
+        if not symbolic and value is None:
+            raise t.error("symbolic", "'symbolic = false' needs a 'value' to put in its place")
+        if kind == "resistors":
+            self.resistor_grade(name, t)
+        element_value = equals if equals is not None else (None if symbolic else value)
+        if value is not None and symbolic:
+            if kind in ("resistors", "capacitors") and not value.is_positive:
+                problem = InvalidValueError(
+                    f"{kind[:-1]} {name}: value {value} is not positive; give a value > 0"
+                )
+                raise t.wrap("value", problem) from problem
+            self.values[name] = value
+        add = {
+            "resistors": circuit.resistor, "capacitors": circuit.capacitor,
+            "voltage-sources": circuit.voltage_source, "current-sources": circuit.current_source,
+        }[kind]  # fmt: skip
+        add(name, a, b, value=element_value)
+
+    def resistor_grade(self, name: str, t: Table) -> None:
+        grade = t.take_str("grade", default=None)
+        tol = t.take_value("tolerance", unit="ratio")
+        tcr = t.take_value("tcr", unit="ratio/°C")
+        if grade is not None and (tol is not None or tcr is not None):
+            raise t.error("grade", "give a 'grade' or 'tolerance'/'tcr', not both")
+        try:
+            if grade is not None:
+                self.resistors[name] = resistor_parameters(grade)
+            elif tol is not None or tcr is not None:
+                self.resistors[name] = ResistorParams(
+                    float(tol or 0), float(tcr or 0), f"{name} grade"
+                )
+        except OpsymError as err:
+            raise t.wrap("grade" if grade is not None else "tolerance", err) from err
+
+    def opamp(self, circuit: Circuit, name: str, t: Table) -> None:
+        plus, minus, out = t.take_node("plus"), t.take_node("minus"), t.take_node("out")
+        gain: Any = "ideal"
+        if t.has("gain"):
+            raw = t.raw("gain")
+            if raw in ("ideal", "finite"):
+                gain = raw
+            else:
+                gain = t.value_of(raw, "gain", unit="ratio", names=self.names)
+        include = t.take_strings("include") if t.has("include") else list(_DEFAULT_INCLUDE)
+        for kind in include:
+            if kind not in KINDS:
+                raise t.error(
+                    "include", f"{kind!r} is not a non-ideality; use any of {', '.join(KINDS)}"
+                )
+        if len(set(include)) != len(include):
+            raise t.error("include", "a non-ideality is listed twice")
+        for what in ("Vcm", "dVs"):
+            value = t.take_value(what, unit="V")
+            if value is not None:
+                self.values[f"{name}.{what}"] = value
+        if t.has("parameters"):
+            self.opamps[name] = self.parameter_set(name, t)
+        circuit.opamp(
+            name, plus=plus, minus=minus, out=out, gain=gain,
+            **{k: k in include for k in ("offset", "bias", "cmrr", "psrr")},
+        )  # fmt: skip
+
+    def parameter_set(self, name: str, t: Table) -> OpAmpParams:
+        raw = t.raw("parameters")
+        try:
+            if isinstance(raw, str):
+                return opamp_parameters(raw)
+        except OpsymError as err:
+            raise t.wrap("parameters", err) from err
+        p = t.sub("parameters")
+        if p is None:  # pragma: no cover - raw is present
+            raise t.error("parameters", "missing")
+        base = p.take_str("based-on", default=None)
+        fields: dict[str, Any] = {}
+        label = p.take_str("name", default=None)
+        if label is not None:
+            fields["name"] = label
+        description = p.take_str("description", default=None)
+        if description is not None:
+            fields["description"] = description
+        for key, unit in PARAMETER_UNITS.items():
+            if not p.has(key):
+                continue
+            value = p.raw(key)
+            if unit == "dB":  # a number of dB: "90 dB" or 90, not the ratio 10**(90/20)
+                if isinstance(value, str):
+                    text = value.strip()
+                    value = text[:-2] if text.endswith("dB") else text
+                fields[key] = float(p.value_of(value, key))
+            else:
+                fields[key] = float(p.value_of(value, key, unit=unit))
+        if p.has("bias_law"):
+            fields["bias_law"] = p.raw("bias_law")
+        p.finish()
+        try:
+            if base is not None:
+                params = opamp_parameters(base)
+                if "name" not in fields:
+                    fields["name"] = f"{params.name}, as changed for {name}"
+                return params.replace(**fields)
+            fields.setdefault("name", f"{name} parameters")
+            return OpAmpParams.from_mapping(fields)
+        except OpsymError as err:
+            raise p.wrap(None, err) from err
+
+    def check_equations(self, equations: Mapping[str, tuple[Table, str]]) -> None:
+        """Refuse ``equals`` that refer to themselves, directly or round a loop."""
+        uses = {name: {s.name for s in self.names_in(name)} & set(equations) for name in equations}
+        for start in equations:
+            path, todo = [start], list(uses[start])
+            seen: set[str] = set()
+            while todo:
+                n = todo.pop()
+                if n == start:
+                    t, key = equations[start]
+                    raise t.error(
+                        key, f"'{start}' is defined through itself; break the loop of 'equals'"
+                    )
+                if n not in seen:
+                    seen.add(n)
+                    path.append(n)
+                    todo.extend(uses[n])
+
+    def names_in(self, name: str) -> set[sp.Symbol]:
+        value = getattr(self.circuit.element(name), "value", sp.S.Zero)
+        return set(value.free_symbols)
+
+    # -- settings ----------------------------------------------------------------------
+
+    def output(self, circuit: Circuit) -> str | tuple[str, str]:
+        top = self.top
+        if not top.has("output"):
+            raise top.error(
+                None, "the key 'output' is missing; give the output node (\"out\") or a pair"
+            )
+        raw = top.raw("output")
+        if isinstance(raw, list):
+            nodes = top.take_nodes("output", 2)
+            out: str | tuple[str, str] = (nodes[0], nodes[1])
+            checked = [nodes[0], nodes[1]]
+        else:
+            out = top.node_of(raw, "output")
+            checked = [out]
+        for node in checked:
+            try:
+                circuit.node(node)
+            except OpsymError as err:
+                raise top.wrap("output", err) from err
+        if checked == ["0"] or checked == ["gnd"] or (len(checked) == 2 and
+                                                      checked[0] == checked[1]):  # fmt: skip
+            raise top.error("output", "the output cannot be ground or a node against itself")
+        return out
+
+    def signal(self, circuit: Circuit) -> str | None:
+        top = self.top
+        name = top.take_str("input", default=None)
+        signals = [
+            e.name for e in circuit.elements if isinstance(e, (VoltageSource, CurrentSource))
+        ]
+        if name is None:
+            return signals[0] if len(signals) == 1 else None
+        if name not in signals:
+            known = ", ".join(signals) or "none"
+            raise top.error("input", f"{name!r} is not a signal source; the sources are {known}")
+        return name
+
+    def term_name(self, t: Table, key: str, text: str, *, gain: bool) -> str:
+        if gain and text == "gain":
+            return text
+        valid = [n for n in self.names if "." not in n and self._is_signal(n)]
+        circuit_terms = valid + [n for n in self.names if "." in n and self._is_source(n)]
+        if text not in circuit_terms:
+            some = ", ".join((["gain"] if gain else []) + circuit_terms[:12])
+            raise t.error(key, f"{text!r} is not a term of this design; use one of {some}")
+        return text
+
+    def _is_signal(self, name: str) -> bool:
+        return self.names[name].is_positive is not True  # sources are real, not positive
+
+    def _is_source(self, name: str) -> bool:
+        owner, _, what = name.partition(".")
+        kinds = self.kinds.get(owner, ())
+        needs = {"Vos": "offset", "Ib+": "bias", "Ib-": "bias", "Ib": "bias", "Ios": "bias",
+                 "Vcm": "cmrr", "dVs": "psrr"}.get(what)  # fmt: skip
+        return needs is not None and needs in kinds
+
+    def component_name(self, t: Table, key: str, text: str) -> str:
+        comps = [n for n, s in self.names.items() if "." not in n and s.is_positive]
+        if text not in comps:
+            raise t.error(key, f"{text!r} is not a component; use one of {', '.join(comps[:12])}")
+        return text
+
+    def null(self, t: Table, text: str) -> NullRequest:
+        words = text.split()
+        if len(words) != 3 or words[1] != "by":
+            raise t.error("nulls", f"{text!r} is not 'TERM by COMPONENT', e.g. 'U1.Ib by R3'")
+        return NullRequest(
+            self.term_name(t, "nulls", words[0], gain=False),
+            self.component_name(t, "nulls", words[2]),
+        )
+
+    def sensitivity(self, t: Table, circuit: Circuit) -> SensitivityRequest | None:
+        if not t.has("sensitivity-to"):
+            if t.has("sensitivity-of") or t.has("normalized"):
+                raise t.error(None, "give 'sensitivity-to', the components to vary")
+            return None
+        to = tuple(self.component_name(t, "sensitivity-to", n)
+                   for n in t.take_strings("sensitivity-to"))  # fmt: skip
+        of = tuple(self.term_name(t, "sensitivity-of", n, gain=True)
+                   for n in t.take_strings("sensitivity-of")) or ("gain",)  # fmt: skip
+        return SensitivityRequest(of, to, t.take_bool("normalized", True))
+
+    def budget(self, t: Table) -> BudgetSettings:
+        grade = t.take_str("grade", "max", choices=("max", "typical")) or "max"
+        temps: tuple[float, ...] = (25.0,)
+        if t.has("temperatures"):
+            raw = t.raw("temperatures")
+            if not isinstance(raw, list) or not raw:
+                raise t.error("temperatures", "give a list of °C, e.g. [-40, 25, 85]")
+            temps = tuple(float(t.value_of(v, "temperatures")) for v in raw)
+            if any(not -273.15 < x < 1000 for x in temps):
+                raise t.error("temperatures", "temperatures are in °C, above -273.15")
+        full_scale = t.take_value("full-scale", unit="V")
+        adc = t.sub("adc")
+        bits = reference = None
+        adc_range = "unipolar"
+        if adc is not None:
+            bits = adc.take_int("bits", None, low=1, high=32)
+            if bits is None:
+                raise adc.error(None, "the key 'bits' is missing; give e.g. bits = 16")
+            reference = adc.take_value("reference", unit="V", required=True)
+            adc_range = adc.take_str("range", "unipolar", choices=("unipolar", "bipolar")) or ""
+            adc.finish()
+        t.finish()
+        return BudgetSettings(grade, temps, full_scale, bits, reference, adc_range)
+
+    def tolerance(
+        self, t: Table | None, circuit: Circuit
+    ) -> tuple[ResistorParams | None, ToleranceSettings | None]:
+        if t is None:
+            return None, None
+        default = None
+        if t.has("resistors"):
+            raw = t.raw("resistors")
+            try:
+                if isinstance(raw, str) and any(c.isalpha() for c in raw.replace("ppm", "")):
+                    default = resistor_parameters(raw)
+                else:
+                    tol = t.value_of(raw, "resistors", unit="ratio")
+                    default = ResistorParams(float(tol), 0.0, "default tolerance")
+            except DesignFileError:
+                raise
+            except OpsymError as err:
+                raise t.wrap("resistors", err) from err
+            for e in circuit.elements:
+                if isinstance(e, Resistor) and e.name not in self.resistors:
+                    self.resistors[e.name] = default
+        study = None
+        of = tuple(self.term_name(t, "of", n, gain=True) for n in t.take_strings("of"))
+        samples = t.take_int("samples", 10000, low=0, high=10**7)
+        seed = t.take_int("seed", None, low=0, high=2**63 - 1)
+        distribution = t.take_str("distribution", "uniform", choices=("uniform", "normal"))
+        if of or t.has("samples") or t.has("seed"):
+            study = ToleranceSettings(of or ("gain",), samples or 0, seed, distribution or "")
+        t.finish()
+        return default, study

@@ -1,0 +1,227 @@
+"""Run every analysis a design file asks for, and keep the results together.
+
+:func:`run_design` derives the output, then the null conditions (with a
+standard value for each), the sensitivities, the error budget (over the
+temperatures asked for) and the tolerance studies. It computes; presenting is
+the command line's and the design notes' job.
+
+Examples
+--------
+>>> from opsym.io.designfile import parse_design
+>>> d = parse_design('''
+... output = "out"
+... [resistors]
+... R1 = { between = ["in", "n"], value = "10k" }
+... R2 = { between = ["n", "out"], value = "100k" }
+... R3 = { between = ["p", "0"], value = "9.1k" }
+... [voltage-sources]
+... Vin = { plus = "in", minus = "0", value = "0.1" }
+... [opamps.U1]
+... plus = "p"
+... minus = "n"
+... out = "out"
+... parameters = "generic precision bipolar"
+... [analysis]
+... nulls = ["U1.Ib by R3"]
+... ''')
+>>> s = run_design(d)
+>>> s.conditions[0]
+Eq(R3, R1*R2/(R1 + R2))
+>>> s.choices[0].chosen
+9090.0
+>>> s.budget is not None
+True
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any
+
+import sympy as sp
+
+from ..errors import BudgetError
+from ..numeric.adc import ADC
+from ..numeric.budget import Budget, error_budget
+from ..numeric.eseries import NullChoice, choose_for_null
+from ..numeric.temperature import TemperatureSweep, budget_over_temperature
+from ..numeric.tolerance import ToleranceStudy, tolerance_analysis
+from .designfile import Design
+
+__all__ = ["Study", "run_design"]
+
+Progress = Callable[[int, int, str], Any]
+
+
+@dataclass(frozen=True)
+class Study:
+    """Everything :func:`run_design` found for one design.
+
+    Attributes
+    ----------
+    design : Design
+    result : opsym Result
+        The closed-form output (bias as ``Ib``/``Ios`` unless the file says not).
+    numbers : dict of sympy.Symbol to float
+        Each term's coefficient with the nominal numbers put in, where they
+        are all known.
+    conditions : tuple of sympy.Eq
+        One per null request, in order.
+    choices : tuple of NullChoice
+        The standard value meeting each condition, where the numbers allow.
+    sensitivities : tuple of (of, to, sympy.Expr)
+    budget : Budget or None
+        At 25 °C if asked, else at the worst temperature.
+    sweep : TemperatureSweep or None
+        When several temperatures were asked for.
+    studies : tuple of ToleranceStudy
+    """
+
+    design: Design
+    result: Any
+    numbers: dict[sp.Symbol, float]
+    conditions: tuple[sp.Eq, ...] = ()
+    choices: tuple[NullChoice, ...] = ()
+    sensitivities: tuple[tuple[str, str, sp.Expr], ...] = ()
+    budget: Budget | None = None
+    sweep: TemperatureSweep | None = None
+    studies: tuple[ToleranceStudy, ...] = ()
+
+
+def run_design(design: Design, progress: Progress | None = None) -> Study:
+    """Derive ``design`` and run the analyses it asks for.
+
+    Raises
+    ------
+    OpsymError
+        From the derivation or the numeric analyses (a missing value, a
+        parameter set the budget needs, ...); messages say what to add.
+    """
+    result = design.analyze(progress=progress)
+    values = numeric_values(design)
+    numbers = _term_numbers(result, values)
+    conditions = tuple(result.null(n.term, by=n.by) for n in design.nulls)
+    choices = []
+    for request, eq in zip(design.nulls, conditions, strict=True):
+        needed = {s.name for s in eq.rhs.free_symbols}
+        if needed <= set(values):
+            choices.append(
+                choose_for_null(
+                    eq,
+                    values,
+                    design.series,
+                    result=result,
+                    source=request.term,
+                    magnitude=_magnitude(design, request.term),
+                )
+            )
+    sens: list[tuple[str, str, sp.Expr]] = []
+    if design.sensitivity is not None:
+        req = design.sensitivity
+        for of in req.of:
+            for to in req.to:
+                s = result.sensitivity(to, of=of, normalized=req.normalized, signal=design.signal)
+                sens.append((of, to, s))
+    budget = sweep = None
+    if design.budget is not None or (
+        design.circuit.opamps and all(a.name in design.opamps for a in design.circuit.opamps)
+    ):
+        try:
+            budget, sweep = _budget(design, result, values)
+        except BudgetError as err:
+            raise BudgetError(
+                f"{design.source}: error budget: {err} (in a design file: a 'value' for each "
+                "element, 'parameters' for each op-amp, 'Vcm'/'dVs' for cmrr/psrr)"
+            ) from err
+    studies = []
+    if design.tolerance is not None:
+        t = design.tolerance
+        tolerances = dict(design.resistors) or {}
+        for of in t.of:
+            studies.append(
+                tolerance_analysis(
+                    result,
+                    values,
+                    tolerances,
+                    of=of,
+                    signal=design.signal,
+                    samples=t.samples or None,
+                    seed=t.seed,
+                    distribution=t.distribution,
+                )
+            )
+    return Study(
+        design, result, numbers, conditions, tuple(choices), tuple(sens), budget, sweep,
+        tuple(studies),
+    )  # fmt: skip
+
+
+def numeric_values(design: Design) -> dict[str, float]:
+    """Nominal numbers plus each op-amp's gain, CMRR and PSRR from its parameter set."""
+    values = design.numeric_values()
+    grade = design.budget.grade if design.budget is not None else "typical"
+    for amp in design.circuit.opamps:
+        params = design.opamps.get(amp.name)
+        if params is None:
+            continue
+        for what, number in (
+            ("A", params.gain(grade)), ("CMRR", params.cmrr(grade)), ("PSRR", params.psrr(grade))
+        ):  # fmt: skip
+            name = f"{amp.name}.{what}"
+            if name not in values and number != float("inf"):
+                values[name] = number
+    return values
+
+
+def _magnitude(design: Design, term: str) -> float | None:
+    """The size of an op-amp error source from its parameter set, for null residuals."""
+    owner, _, what = term.partition(".")
+    params = design.opamps.get(owner)
+    if params is None:
+        return None
+    grade = design.budget.grade if design.budget is not None else "max"
+    getter = {"Vos": params.vos, "Ib": params.ib, "Ios": params.ios}.get(what)
+    return getter(grade) if getter is not None else None
+
+
+def _term_numbers(result: Any, values: dict[str, float]) -> dict[sp.Symbol, float]:
+    subs = {}
+    for coeff in result.terms.values():
+        for s in coeff.free_symbols:
+            if s.name in values:
+                subs[s] = values[s.name]
+    out = {}
+    for source, coeff in result.terms.items():
+        v = coeff.xreplace(subs)
+        if not v.free_symbols:
+            out[source] = float(v)
+    return out
+
+
+def _budget(
+    design: Design, result: Any, values: dict[str, float]
+) -> tuple[Budget, TemperatureSweep | None]:
+    s = design.budget
+    options: dict[str, Any] = {"signal": design.signal}
+    if design.resistors:
+        options["resistors"] = dict(design.resistors)
+    temperatures: tuple[float, ...] = (25.0,)
+    if s is not None:
+        options["grade"] = s.grade
+        if s.full_scale is not None:
+            options["full_scale"] = float(s.full_scale)
+        if s.adc_bits is not None and s.adc_reference is not None:
+            make = ADC.bipolar if s.adc_range == "bipolar" else ADC.unipolar
+            options["adc"] = make(s.adc_bits, float(s.adc_reference))
+        temperatures = s.temperatures
+    if len(temperatures) > 1:
+        sweep = budget_over_temperature(
+            result, values, dict(design.opamps), temperatures=temperatures, **options
+        )
+        at = [b for t, b in zip(sweep.temperatures, sweep.budgets, strict=True) if t == 25.0]
+        return (at[0] if at else sweep.worst_budget), sweep
+    budget = error_budget(
+        result, values, dict(design.opamps), temperature=temperatures[0], **options
+    )
+    return budget, None
