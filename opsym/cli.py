@@ -268,7 +268,8 @@ def _summary(study: Any, out: TextIO) -> None:
     say()
     say(f"Terms of V({target}), each source times its coefficient:")
     width = max((len(str(s)) for s in res.terms), default=4)
-    for source, coeff in res.terms.items():
+    for source in res.terms:
+        coeff = res.coefficient(source)  # collected over one denominator, cached
         number = study.numbers.get(source)
         tail = f"   [= {number:.6g}]" if number is not None and not coeff.is_number else ""
         say(f"  {source!s:>{width}} x {coeff}{tail}")

@@ -4,7 +4,8 @@ A greenhouse leaf-wetness probe (a resistive sensor with 4.7 kΩ source
 resistance) feeds a two-stage front end: a non-inverting gain stage U1, then an
 inverting stage U2 with a bias-compensation resistor R5 at its + pin, into a
 data-acquisition input. The demo derives every error term in closed form, the
-null condition for R5, and the numbers with SI prefixes.
+null condition for R5 met with an E96 value, and the numeric error budget with
+SI prefixes.
 
 Examples
 --------
@@ -30,23 +31,18 @@ from .model.circuit import Circuit
 
 __all__ = ["VALUES", "build_circuit", "run"]
 
-#: Invented values for the scenario: two generic precision op-amps.
+#: Component values of the scenario (invented); R5 comes from its null condition.
 VALUES = {
-    "Vs": 0.05,  # sensor signal, 50 mV
-    "Rs": 4700,
-    "R1": 2000,
-    "R2": 18000,
-    "R3": 10000,
-    "R4": 20000,
-    "U1.A": 200_000,
-    "U2.A": 200_000,
-    "U1.Vos": 150e-6,
-    "U2.Vos": 150e-6,
-    "U1.Ib": 15e-9,
-    "U2.Ib": 15e-9,
-    "U1.Ios": 1.5e-9,
-    "U2.Ios": 1.5e-9,
+    "Vs": "50m",  # the probe's full-scale signal
+    "Rs": "4.7k",
+    "R1": "2k",
+    "R2": "18k",
+    "R3": "10k",
+    "R4": "20k",
 }
+
+#: Both op-amps: the invented generic precision bipolar set shipped with opsym.
+OPAMP_SET = "generic precision bipolar"
 
 
 def build_circuit() -> Circuit:
@@ -66,7 +62,10 @@ def build_circuit() -> Circuit:
 
 def run(stream: TextIO | None = None) -> int:
     """Print the worked example to ``stream`` (standard output by default)."""
-    from .numeric.units import format_si
+    from .numeric.adc import ADC
+    from .numeric.budget import error_budget
+    from .numeric.eseries import choose_for_null
+    from .numeric.params import opamp_parameters, resistor_parameters
 
     out = stream or sys.stdout
 
@@ -88,39 +87,31 @@ def run(stream: TextIO | None = None) -> int:
     say(f"  {null.lhs} = {null.rhs}      (R3 || R4)")
     residual = ideal.subs({"R5": null.rhs}).coefficient("U2.Ios")
     say(f"  left over: U2.Ios x {sp.factor(residual)}")
+    values = dict(VALUES)
+    pick = choose_for_null(null, values, "E96")
+    values["R5"] = pick.chosen
+    say(f"  for the build: {pick.describe()}")
     u1_null = ideal.null("U1.Ib", by="R2")
     say("U1's bias error is nulled when R1 || R2 equals the probe resistance:")
     say(f"  {u1_null.lhs} = {u1_null.rhs}")
     gain_err = res.gain_error(order=1)
     say(f"\nFirst-order gain error from finite open-loop gain:\n  {gain_err}")
 
-    values = {k: v for k, v in VALUES.items()}
-    r5 = float(null.rhs.xreplace({c.symbol("R3"): 10000, c.symbol("R4"): 20000}))
-    values["R5"] = r5
-    numeric = res.subs(values)
-    say(f"\nWith the scenario's values (R5 = {format_si(r5, 'Ω')}):")
-    total_worst = 0.0
-    for info in numeric.sources:
-        coeff = float(numeric.terms[info.symbol])
-        value = float(values[info.symbol.name])
-        contribution = coeff * value
-        if info.kind != "signal":
-            total_worst += abs(contribution)
-        say(
-            f"  {info.symbol!s:>8}: {format_si(value, _unit(info.symbol.name)):>10}"
-            f"  x {coeff:+.6g}  ->  {format_si(contribution, 'V'):>11}"
-        )
-    gain = float(numeric.coefficient("Vs"))
-    say(
-        f"  signal gain {gain:.6f} V/V; error sources, worst case at the output: "
-        f"{format_si(total_worst, 'V')} ({format_si(total_worst / abs(gain), 'V')} at the input)"
+
+    params = opamp_parameters(OPAMP_SET)
+    budget = error_budget(
+        c.analyze("out"),
+        values,
+        {"U1": params, "U2": params},
+        resistors=resistor_parameters("thin film 0.1%"),
+        adc=ADC.bipolar(16, 2.5),
+        title=f"{c.title}, both op-amps '{OPAMP_SET}'",
     )
+    say("\nNumeric error budget: datasheet limits of the generic set, 0.1 % resistors,")
+    say(f"a 16-bit ±2.5 V converter; signal gain {budget.input_gain:.5g} V/V:\n")
+    say(budget.to_text())
     say(
         "\nA design aid: verify by measurement, and for medical or safety instrumentation "
         "follow local codes and licensed review."
     )
     return 0
-
-
-def _unit(name: str) -> str:
-    return "A" if name.rsplit(".", 1)[-1] in ("Ib", "Ios", "Ib+", "Ib-") else "V"

@@ -32,12 +32,23 @@ def tidy(expr: sp.Expr, limit: int = TIDY_LIMIT, deep: bool = False) -> sp.Expr:
     if expr.is_number:
         return expr
     if isinstance(expr, sp.Mul) and not deep:
-        return expr
+        if any(a.is_Mul for a in expr.args):  # nested: a long cascade product
+            return expr
+        return sp.Mul(*[tidy(a, limit) if _has_fraction(a) else a for a in expr.args])
     if isinstance(expr, sp.Mul) and sp.count_ops(expr) <= limit:
         return sp.factor(expr)
     if isinstance(expr, sp.Add) and sp.count_ops(expr) <= limit:
         return sp.factor(sp.together(expr))
     return expr
+
+
+def _has_fraction(expr: sp.Expr) -> bool:
+    """True for a sum with a term that has a denominator (``1 + R2/R1``, not ``R1 + R2``)."""
+    if not isinstance(expr, sp.Add):
+        return False
+    return any(
+        isinstance(p, sp.Pow) and p.exp.is_negative for t in expr.args for p in sp.Mul.make_args(t)
+    )
 
 
 def at_infinity(expr: sp.Expr, symbols: list[sp.Symbol]) -> sp.Expr:

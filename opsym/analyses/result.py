@@ -203,8 +203,8 @@ class Result:
                 cp = self._coefficients[info.symbol]
                 cm = self._coefficients[opamp_symbol(owner, "Ib-")]
                 ib, ios = opamp_symbol(owner, "Ib"), opamp_symbol(owner, "Ios")
-                coefficients[ib] = cp + cm
-                coefficients[ios] = (cp - cm) / 2
+                coefficients[ib] = tidy(cp + cm)
+                coefficients[ios] = tidy((cp - cm) / 2)
                 sources += [SourceInfo(ib, "bias", owner, ib), SourceInfo(ios, "bias", owner, ios)]
             elif info.kind == "bias" and name.endswith(".Ib-"):
                 continue
