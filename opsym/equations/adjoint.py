@@ -78,12 +78,14 @@ def solve_adjoint(
             if known:
                 rhs[u][u] = sp.S.One
                 coupling[u] = product(sp.S.NegativeOne, sp.Add(*known))
-        if not any(rhs.values()):
-            continue  # nothing drives this block: its z entries stay zero
         try:
+            # Undriven blocks are eliminated too: a singular part of the circuit is an
+            # error whichever output is asked for.
             solution = solve_block(matrix, rhs, block)
         except SingularBlock:
             raise _block_error(eqs, block) from None
+        if not any(rhs.values()):
+            continue  # nothing drives this block: its z entries stay zero
         for r in block:
             parts = [
                 y if key == "c" else product(y, coupling[key]) for key, y in solution[r].items()
