@@ -27,7 +27,7 @@ from typing import Any
 
 import sympy as sp
 
-from ..errors import DesignFileError, OpsymError
+from ..errors import DesignFileError, OpsymError, ValueSyntaxError
 from .values import parse_value
 
 __all__ = ["Locator", "Table"]
@@ -108,6 +108,8 @@ class Table:
     def wrap(self, key: str | None, err: OpsymError) -> DesignFileError:
         """Re-raise an error of the model or parser with this location in front."""
         text = str(err)
+        if isinstance(err, ValueSyntaxError):  # the value parser already names the field
+            return DesignFileError(text)
         return DesignFileError(f"{self.where(key)}: {text}")
 
     # -- reading -----------------------------------------------------------------------
