@@ -21,7 +21,7 @@ from opsym.equations.mna import build_equations
 from opsym.equations.structure import StructurallySingular, block_order, match_rows
 
 sys.path.insert(0, str(Path(__file__).resolve().parent / "benchmarks"))
-from bench_circuits import instrumentation_amplifier, inverting_cascade  # noqa: E402
+from bench_circuits import instrumentation_amplifier, inverting_cascade
 
 
 def cascade_description(stages: int, seed: int) -> list[tuple]:
