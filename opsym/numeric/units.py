@@ -23,6 +23,7 @@ Examples
 from __future__ import annotations
 
 import math
+import re
 from numbers import Real
 from typing import Any
 
@@ -136,9 +137,24 @@ def parse_quantity(text: Any, unit: str | None = None, *, where: str = "value") 
         )
     stripped = text.strip()
     example = _example(unit)
+    if _NOT_SI_PREFIX.fullmatch(stripped):
+        # quantiphy reads R, Q, r, q as the 2022 SI prefixes ronna, quetta, ronto and
+        # quecto; in a circuit "100R" is 100 Ω (the trade's R-notation), so it goes to
+        # the design-file parser, which knows that and refuses the rest.
+        trade = _trade_notation(stripped, unit, where)
+        if trade is None:
+            raise ValueSyntaxError(
+                f"{where}: cannot read {text!r}; R marks the decimal point in ohms (4R7 = "
+                "4.7 Ω), and opsym does not use the prefixes ronna/quetta (R, Q) or "
+                "ronto/quecto (r, q)"
+            )
+        return trade
     try:
         q = Quantity(stripped)
     except QuantiPhyError:
+        trade = _trade_notation(stripped, unit, where)
+        if trade is not None:
+            return trade
         raise ValueSyntaxError(
             f"{where}: cannot read {text!r}; write a number with an optional SI prefix "
             f"and unit, e.g. {example!r}"
@@ -147,6 +163,10 @@ def parse_quantity(text: Any, unit: str | None = None, *, where: str = "value") 
     if not math.isfinite(value):
         raise ValueSyntaxError(f"{where}: {text!r} is not finite; give a finite number")
     got = _canonical_unit(q.units) if q.units else ""
+    if got and (unit is None or got != _canonical_unit(unit)) and got not in _UNIT_WORDS:
+        trade = _trade_notation(stripped, unit, where)  # "2R2" reads as 2 with unit "R2"
+        if trade is not None:
+            return trade
     if unit is not None and got and got != _canonical_unit(unit):
         want = _canonical_unit(unit)
         word = _UNIT_WORDS.get(want)
@@ -155,6 +175,26 @@ def parse_quantity(text: Any, unit: str | None = None, *, where: str = "value") 
             f"{where}: {text!r} is in {got}, expected {expected}; write e.g. {example!r}"
         )
     return value
+
+
+#: A number whose prefix letter is R, Q, r or q.
+_NOT_SI_PREFIX = re.compile(r"[+-]?(\d+\.?\d*|\.\d+)\s*[RQrq]\d*\s*(Ω|ohms?)?")
+
+#: Units the whitelist value parser can check.
+_PARSER_UNITS = {"Ω", "V", "A", "F", "Hz", "V/°C", "A/°C"}
+
+
+def _trade_notation(text: str, unit: str | None, where: str) -> float | None:
+    """Forms quantiphy does not read but the design-file parser does (``4k7``, ``2R2``,
+    ``5 µV/°C``), so one syntax holds everywhere; ``None`` if it cannot read them either."""
+    from ..io.values import parse_value
+
+    want = _canonical_unit(unit) if unit else None
+    try:
+        value = parse_value(text, where=where, unit=want if want in _PARSER_UNITS else None)
+    except ValueSyntaxError:
+        return None
+    return float(value) if value.is_number else None
 
 
 def _example(unit: str | None) -> str:

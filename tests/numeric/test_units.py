@@ -5,6 +5,7 @@ import math
 import pytest
 
 from opsym import OpsymError, ValueSyntaxError
+from opsym.io.values import parse_value
 from opsym.numeric.units import (
     db_to_ratio,
     format_si,
@@ -64,3 +65,13 @@ def test_fraction_and_db():
     # 20·log10 for voltage ratios; 90 dB is 31 623 V/V [trade] common practice
     assert db_to_ratio(90) == pytest.approx(31622.776601683792, rel=1e-12)
     assert ratio_to_db(db_to_ratio(68.04)) == pytest.approx(68.04, rel=1e-12)
+
+
+@pytest.mark.parametrize(
+    ("text", "unit", "want"),
+    [("4k7", "Ω", 4700.0), ("2R2", "Ω", 2.2), ("100R", None, 100.0), ("5 µV/°C", None, 5e-6)],
+)
+def test_quantities_read_the_same_forms_as_design_files(text, unit, want):
+    # The trade's R-notation (4k7 = 4.7 kΩ) [trade]: budgets and design files share one syntax.
+    assert parse_quantity(text, unit) == pytest.approx(want, rel=1e-15)
+    assert float(parse_value(text, where="x")) == pytest.approx(want, rel=1e-15)
