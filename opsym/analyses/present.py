@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import sympy as sp
 
-__all__ = ["TIDY_LIMIT", "at_infinity", "tidy"]
+__all__ = ["TIDY_LIMIT", "Parallel", "at_infinity", "tidy", "trade_form"]
 
 #: Largest operation count of a sum that :func:`tidy` still factors.
 TIDY_LIMIT = 1500
@@ -71,3 +71,67 @@ def at_infinity(expr: sp.Expr, symbols: list[sp.Symbol]) -> sp.Expr:
     if low_num < low_den:
         return sp.oo * sp.sign(num_p.coeff_monomial(t**low_num))
     return tidy(num_p.coeff_monomial(t**low_num) / den_p.coeff_monomial(t**low_den))
+
+
+class Parallel(sp.Function):
+    r"""``a‖b = a·b/(a + b)``, for display only: LaTeX ``a \parallel b``.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> R1, R2 = sp.symbols("R1 R2", positive=True)
+    >>> sp.latex(Parallel(R1, R2))
+    'R_{1} \\parallel R_{2}'
+    """
+
+    def _latex(self, printer) -> str:
+        return r" \parallel ".join(printer._print(a) for a in self.args)
+
+    def _sympystr(self, printer) -> str:
+        return " || ".join(printer._print(a) for a in self.args)
+
+
+def trade_form(expr: sp.Expr) -> sp.Expr:
+    """Rewrite a factored coefficient in the shapes the trade writes, for display.
+
+    ``(R1 + R2)/R1`` becomes the noise gain ``1 + R2/R1`` and ``R1*R2/(R1 + R2)``
+    the parallel combination ``R1‖R2`` (a :class:`Parallel`). The value is
+    unchanged; the result is meant for printing, not for further algebra.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> R1, R2, R3 = sp.symbols("R1 R2 R3", positive=True)
+    >>> trade_form(-R3*(R1 + R2)/R1)
+    -R3*(1 + R2/R1)
+    >>> trade_form(R1*R2/(R1 + R2))
+    R1 || R2
+    """
+    if not isinstance(expr, sp.Mul) or any(a.is_Mul for a in expr.args):
+        return expr
+    num, den = [], []
+    for factor in expr.args:
+        base, exp = factor.as_base_exp()
+        if exp.is_Integer and exp < 0:
+            den += [base] * int(-exp)
+        else:
+            num.append(factor)
+    out = []
+    for d in list(den):  # parallel: a*b/(a + b) with both a and b in the numerator
+        if isinstance(d, sp.Add) and len(d.args) == 2 and all(a.is_Symbol for a in d.args):
+            a, b = d.args
+            if a in num and b in num:
+                num.remove(a)
+                num.remove(b)
+                den.remove(d)
+                out.append(Parallel(*sorted((a, b), key=str)))
+    for n in list(num):  # noise gain: (d + t)/d with a symbol d in the denominator
+        if isinstance(n, sp.Add) and len(n.args) == 2:
+            for d in den:
+                if d.is_Symbol and d in n.args:
+                    (t,) = [a for a in n.args if a != d]
+                    num.remove(n)
+                    den.remove(d)
+                    out.append(sp.Add(sp.S.One, t / d))
+                    break
+    return sp.Mul(*num, *out) / sp.Mul(*den)

@@ -13,7 +13,7 @@ Examples
 >>> print(c.analyze("out").latex())
 \begin{aligned}
 V_{\mathrm{out}} ={} & - \frac{R_{2}}{R_{1}}\, V_{\mathrm{in}} \\
- & + \frac{R_{1} + R_{2}}{R_{1}}\, V_{\mathrm{OS},\mathrm{U1}}
+ & + \left(1 + \frac{R_{2}}{R_{1}}\right)\, V_{\mathrm{OS},\mathrm{U1}}
 \end{aligned}
 """
 
@@ -23,6 +23,8 @@ from collections.abc import Mapping
 from typing import TYPE_CHECKING
 
 import sympy as sp
+
+from ..analyses.present import trade_form
 
 if TYPE_CHECKING:
     from ..analyses.result import Result
@@ -46,8 +48,9 @@ def result_latex(result: Result, names: Mapping[sp.Symbol, str] | None = None) -
         sign = "+"
         if coeff.could_extract_minus_sign():
             sign, coeff = "-", -coeff
-        body = expr_latex(coeff, table)
-        if isinstance(coeff, sp.Add):
+        shaped = trade_form(coeff)
+        body = expr_latex(shaped, table)
+        if isinstance(shaped, sp.Add):
             body = r"\left(" + body + r"\right)"
         source = table.get(info.symbol, sp.latex(info.symbol))
         term = source if coeff == 1 else body + r"\, " + source

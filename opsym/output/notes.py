@@ -27,6 +27,7 @@ from typing import Any
 
 import sympy as sp
 
+from ..analyses.present import trade_form
 from ..errors import BudgetError
 from ..model.symbols import latex_name
 from ..numeric.units import format_si, parse_quantity
@@ -84,6 +85,8 @@ def _names(result: Any, extra: Iterable[sp.Expr] = ()) -> dict[sp.Symbol, str]:
 
 
 def _condition_latex(eq: Any, names: dict) -> str:
+    if isinstance(eq, sp.Eq):  # show R3 = R1 ∥ R2 as the trade writes it
+        eq = sp.Eq(eq.lhs, trade_form(eq.rhs), evaluate=False)
     return sp.latex(eq, symbol_names={**names, **{s: latex_name(s) for s in eq.free_symbols
                                                   if s not in names}})  # fmt: skip
 
