@@ -522,3 +522,13 @@ def test_singular_part_away_from_the_output():
         c.analyze("o1")
     with pytest.raises(opsym.SingularCircuitError, match="U1"):
         c.analyze("v1")
+
+
+def test_gain_must_be_ideal_finite_or_a_number():
+    c = opsym.Circuit("gain words")
+    with pytest.raises(opsym.InvalidValueError, match="'ideal', 'finite' or a number"):
+        c.opamp("U1", plus="p", minus="n", out="o", gain="fast")
+    with pytest.raises(opsym.InvalidValueError, match="ambiguous"):
+        c.opamp("U2", plus="p", minus="n", out="o", gain=None)
+    c.opamp("U3", plus="p", minus="n", out="o", gain="200k")
+    assert c.element("U3").gain == 200_000

@@ -29,7 +29,7 @@ from typing import TYPE_CHECKING, Any
 
 import sympy as sp
 
-from ..errors import DuplicateNameError, InvalidValueError, UnknownNameError
+from ..errors import DuplicateNameError, InvalidValueError, UnknownNameError, ValueSyntaxError
 from .elements import Capacitor, CurrentSource, Element, OpAmp, Resistor, VoltageSource
 from .nonideal import KINDS, NonIdeal
 from .symbols import OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
@@ -191,10 +191,17 @@ class Circuit:
             a = None
         elif isinstance(gain, str) and gain == "finite":
             a = opamp_symbol(name, "A")
-        elif isinstance(gain, str) and gain not in ("ideal", "finite"):
-            a = _positive_value(gain, name + ".A", "op-amp gain")
-        else:
-            a = _positive_value(gain, name + ".A", "op-amp gain")
+        elif gain is None:
+            raise InvalidValueError(
+                f"op-amp {name}: gain=None is ambiguous; write gain='ideal' or gain='finite'"
+            )
+        else:  # a number, an expression or text such as "100k"
+            try:
+                a = _positive_value(gain, name + ".A", "op-amp gain")
+            except ValueSyntaxError as err:
+                raise InvalidValueError(
+                    f"op-amp {name}: gain {gain!r} is not 'ideal', 'finite' or a number ({err})"
+                ) from None
         wanted = [("offset", offset), ("bias", bias), ("cmrr", cmrr), ("psrr", psrr)]
         kinds: list[NonIdeal] = [KINDS[k]() for k, on in wanted if on]
         for item in extra:
