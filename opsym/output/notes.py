@@ -189,20 +189,25 @@ def design_note(
     studies = [s for s in studies if s is not None]
     if budget is not None or studies or sweep is not None:
         body += [r"\subsection*{Numeric budget}"]
-        if budget is not None:
-            body.append(budget.to_latex())
-        body += [s.to_latex() for s in studies]
+        # Tables and figures stay in place (no floats), so the note reads in order and
+        # the caution comes last.
+        tables = [budget.table()] if budget is not None else []
+        tables += [s.table() for s in studies]
         if sweep is not None:
-            body.append(sweep.to_latex())
+            tables.append(sweep.table())
+        for t in tables:
+            body += [r"\begin{center}"]
+            if t.caption:
+                body += [r"\textbf{" + latex_text(t.caption) + r"}\par\smallskip"]
+            body += [t.to_latex(float_env=False), r"\end{center}"]
     for path, caption in figs:
         body += [
-            r"\begin{figure}[htbp]",
-            r"\centering",
+            r"\begin{center}",
             r"\includegraphics[width=0.8\linewidth]{" + path.as_posix() + "}",
         ]
         if caption:
-            body.append(r"\caption{" + latex_text(caption) + "}")
-        body.append(r"\end{figure}")
+            body.append(r"\par\smallskip " + latex_text(caption))
+        body.append(r"\end{center}")
     body += [r"\subsection*{Caution}", latex_text(CAUTION)]
     text = "\n".join(body) + "\n"
     if standalone:
