@@ -23,7 +23,7 @@ True
 from __future__ import annotations
 
 import sys
-from typing import TextIO
+from typing import Any, TextIO
 
 import sympy as sp
 
@@ -87,7 +87,7 @@ def run(stream: TextIO | None = None) -> int:
     say(f"  {null.lhs} = {null.rhs}      (R3 || R4)")
     residual = ideal.subs({"R5": null.rhs}).coefficient("U2.Ios")
     say(f"  left over: U2.Ios x {sp.factor(residual)}")
-    values = dict(VALUES)
+    values: dict[str, Any] = dict(VALUES)
     pick = choose_for_null(null, values, "E96")
     values["R5"] = pick.chosen
     say(f"  for the build: {pick.describe()}")
@@ -96,7 +96,6 @@ def run(stream: TextIO | None = None) -> int:
     say(f"  {u1_null.lhs} = {u1_null.rhs}")
     gain_err = res.gain_error(order=1)
     say(f"\nFirst-order gain error from finite open-loop gain:\n  {gain_err}")
-
 
     params = opamp_parameters(OPAMP_SET)
     budget = error_budget(

@@ -234,7 +234,7 @@ class Result:
         try:
             fresh = derive(ideal_circuit, self._output, values=self._fixed)
         except SingularCircuitError:
-            gains = list({g for a in finite for g in a.gain.free_symbols})
+            gains = list({g for a in finite if a.gain is not None for g in a.gain.free_symbols})
             coefficients = {s: at_infinity(c, gains) for s, c in self._coefficients.items()}
             return self._replace(coefficients=coefficients)
         if self._post:

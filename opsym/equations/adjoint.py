@@ -25,7 +25,7 @@ Examples
 
 from __future__ import annotations
 
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Hashable, Mapping
 
 import sympy as sp
 
@@ -61,8 +61,8 @@ def solve_adjoint(
     for done, block in enumerate(blocks, start=1):
         members = set(block)
         matrix: dict[int, dict[int, sp.Expr]] = {}
-        rhs: dict[int, dict[object, sp.Expr]] = {}
-        coupling: dict[int, sp.Expr] = {}
+        rhs: dict[int, dict[Hashable, sp.Expr]] = {}
+        coupling: dict[Hashable, sp.Expr] = {}
         for r in block:
             u = row_of_col[r]
             matrix[u] = {rr: v for rr, v in transposed[u].items() if rr in members}

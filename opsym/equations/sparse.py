@@ -20,6 +20,7 @@ R1
 from __future__ import annotations
 
 from collections.abc import Hashable
+from typing import Any
 
 import sympy as sp
 from sympy.polys.constructor import construct_domain
@@ -54,10 +55,10 @@ def solve_block(
         Column → {rhs key → solution}, each entry in :func:`readable` form.
     """
     entries: list[sp.Expr] = []
-    for row in matrix.values():
-        entries.extend(row.values())
-    for row in rhs.values():
-        entries.extend(row.values())
+    for mrow in matrix.values():
+        entries.extend(mrow.values())
+    for rrow in rhs.values():
+        entries.extend(rrow.values())
     domain, elems = construct_domain(entries, field=True) if entries else (sp.QQ, [])
     it = iter(elems)
     a = {r: {c: next(it) for c in row} for r, row in matrix.items()}
@@ -147,7 +148,7 @@ def _markowitz(a, remaining, col_rows):
 
 
 def _size(v) -> int:
-    numer = getattr(v, "numer", None)
+    numer: Any = getattr(v, "numer", None)
     if not hasattr(numer, "factor_list"):  # not a rational function (EX, QQ, ...)
         return 0
     return len(numer) + len(v.denom)

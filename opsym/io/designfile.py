@@ -425,8 +425,8 @@ class _Reader:
         if t.has("parameters"):
             self.opamps[name] = self.parameter_set(name, t)
         circuit.opamp(
-            name, plus=plus, minus=minus, out=out, gain=gain,
-            **{k: k in include for k in ("offset", "bias", "cmrr", "psrr")},
+            name, plus=plus, minus=minus, out=out, gain=gain, offset="offset" in include,
+            bias="bias" in include, cmrr="cmrr" in include, psrr="psrr" in include,
         )  # fmt: skip
 
     def parameter_set(self, name: str, t: Table) -> OpAmpParams:

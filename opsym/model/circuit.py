@@ -211,7 +211,8 @@ class Circuit:
                 )
             if item not in kinds:
                 kinds.append(item)
-        self._add(OpAmp(name, *nodes, gain=a, nonideals=tuple(kinds)))
+        plus_node, minus_node, out_node = nodes
+        self._add(OpAmp(name, plus_node, minus_node, out_node, gain=a, nonideals=tuple(kinds)))
 
     # -- reading -----------------------------------------------------------------
 

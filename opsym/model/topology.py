@@ -86,7 +86,7 @@ def _check_source_loops(circuit: Circuit) -> None:
 
 def _path(adjacency: dict[str, list[tuple[str, str]]], start: str, goal: str) -> list[str]:
     """Element labels along the tree path from ``start`` to ``goal``."""
-    stack = [(start, [])]
+    stack: list[tuple[str, list[str]]] = [(start, [])]
     seen = {start}
     while stack:
         node, labels = stack.pop()

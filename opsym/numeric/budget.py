@@ -423,6 +423,7 @@ def _prepare(
             open_loop = gain - g_ideal
         if sig_value is not None and resistors is not None:
             tolerance = _tolerance_plan(g_expr, subs, given, names, resistors, notes)
+    ref: float | None
     if input_gain is not None:
         ref = parse_quantity(input_gain, where="input_gain")
     else:
@@ -518,6 +519,8 @@ def _evaluate(plan: _Plan, temperature: float) -> Budget:
             value = ln.fixed_value
         elif ln.coefficient == 0 and p is None:
             value = 0.0
+        elif p is None:  # pragma: no cover - _prepare insists on a set or a value
+            raise BudgetError(f"{ln.symbol} needs a value or a parameter set")
         elif ln.what == "Vos":
             value = p.vos(plan.grade, temperature)
         elif ln.what in ("Ib", "Ib+", "Ib-"):
@@ -542,7 +545,7 @@ def _evaluate(plan: _Plan, temperature: float) -> Budget:
                 True,
             )
         )
-    if plan.tolerance is not None:
+    if plan.tolerance is not None and plan.signal_value is not None:
         dev = _tolerance_deviation(plan, temperature)
         raw.append(("gain: tolerance", "resistor tolerance (gain)", plan.signal_value, "V",
                     dev, abs(dev * plan.signal_value), False))  # fmt: skip

@@ -99,9 +99,9 @@ def _resolve(
         raise BudgetError(f"{where}: give values for {', '.join(missing)}")
     parts = sorted((s for s in tol if tol[s] > 0), key=lambda s: s.name)
     nominal = np.array([numbers[s] for s in parts], dtype=float)
-    t = np.array([tol[s] for s in parts], dtype=float)
+    spread = np.array([tol[s] for s in parts], dtype=float)
     fixed = {s: v for s, v in numbers.items() if s not in parts}
-    return parts, nominal, t, fixed
+    return parts, nominal, spread, fixed
 
 
 def _vectorised(expr: sp.Expr, parts: list[sp.Symbol], fixed: Mapping[sp.Symbol, float]):
