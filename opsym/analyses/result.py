@@ -329,6 +329,51 @@ class Result:
             raise NoSolutionError(f"the coefficient of {of} is zero; no normalized sensitivity")
         return sp.factor(sp.cancel(sp.together(x * dy / y)))
 
+    def common_mode(self, opamp: str) -> sp.Expr:
+        """The common-mode voltage at op-amp ``opamp``'s inputs, from the signals alone.
+
+        ``(V(+) + V(-))/2`` with the signal sources at their declared values and
+        every error source zero: the ``U1.Vcm`` that drives its CMRR term. Values
+        fixed or substituted in this result apply.
+
+        Examples
+        --------
+        >>> import opsym
+        >>> c = opsym.Circuit("difference stage")
+        >>> c.voltage_source("V1", "a", "0")
+        >>> c.voltage_source("V2", "b", "0")
+        >>> c.resistor("R1", "a", "n")
+        >>> c.resistor("R2", "n", "out")
+        >>> c.resistor("R3", "b", "p")
+        >>> c.resistor("R4", "p", "0")
+        >>> c.opamp("U1", plus="p", minus="n", out="out", cmrr=True)
+        >>> c.analyze("out").common_mode("U1")
+        R4*V2/(R3 + R4)
+        """
+        from .derive import derive
+
+        amp = self._circuit.element(opamp)
+        if not isinstance(amp, OpAmp):
+            raise UnknownNameError(f"{opamp} is a {amp.kind}, not an op-amp")
+        total = sp.S.Zero
+        for pin in (amp.plus, amp.minus):
+            if pin == "0":
+                continue
+            at_pin = derive(self._circuit, pin, values=self._fixed)
+            subs = {**self._fixed, **self._post}
+            for info in at_pin.sources:
+                if info.kind == "signal":
+                    value = info.value.xreplace(subs) if subs else info.value
+                    total += at_pin.compact_coefficient(info.symbol).xreplace(subs) * value
+        return tidy(total / 2, deep=True)
+
+    def compact_coefficient(self, source: str | sp.Symbol) -> sp.Expr:
+        """One coefficient exactly as solved (see :attr:`terms`)."""
+        sym = self._source_symbol(source)
+        if sym not in self._coefficients:
+            return self.coefficient(sym)  # raises the helpful error
+        return self._coefficients[sym]
+
     def input_referred(self, signal: str | sp.Symbol | None = None) -> dict[sp.Symbol, sp.Expr]:
         """Every other source's coefficient divided by the signal's: errors at the input."""
         sig = self._signal(signal)

@@ -49,7 +49,7 @@ from typing import Any
 import numpy as np
 import sympy as sp
 
-from ..errors import BudgetError
+from ..errors import BudgetError, OpsymError
 from .adc import ADC
 from .params import REFERENCE_TEMPERATURE, OpAmpParams, ResistorParams
 from .tolerance import MAX_CORNERS, _corner_signs, _vectorised, first_order_bound
@@ -377,10 +377,18 @@ def _prepare(
             subs[names[name]] = sp.Float(x, 17)
 
     lines = []
+    derived: list[str] = []
     for sym in result.error_sources:
         owner, _, what = sym.name.partition(".")
         coeff = number(terms[sym], f"the coefficient of {sym.name}")
         fixed = given.get(sym.name)
+        if fixed is None and coeff != 0 and what == "Vcm":
+            fixed = _common_mode(result, owner, number)
+            if fixed is not None:
+                derived.append(
+                    f"{sym.name} = {format_si(fixed, 'V')}: the common-mode voltage at "
+                    f"{owner}'s inputs, from the signal values"
+                )
         if fixed is None and coeff != 0:
             if what in ("Vcm", "dVs"):
                 hint = (
@@ -389,7 +397,9 @@ def _prepare(
                 )  # fmt: skip
                 raise BudgetError(
                     f"give values[{sym.name!r}], {hint} in volts, to budget {sym.name}"
-                )
+                    + (" (or the signal values, from which opsym derives it)"
+                       if what == "Vcm" else "")
+                )  # fmt: skip
             if owner not in opamps or what not in _WORDS:
                 raise BudgetError(
                     f"{sym.name} needs a value: give opamps={{{owner!r}: "
@@ -435,7 +445,7 @@ def _prepare(
         "values: datasheet limits (max Vos, |Ib|, Ios; min A, CMRR, PSRR)"
         if grade == "max" else "values: typical"
     )  # fmt: skip
-    notes = [grade_note, WORST_CASE_RULE, RSS_RULE, *notes]
+    notes = [grade_note, WORST_CASE_RULE, RSS_RULE, *derived, *notes]
     if adc is not None:
         notes.append(f"ADC: {adc.describe()}")
     if ref:
@@ -454,6 +464,14 @@ def _circuit_knows(circuit: Any, name: str) -> bool:
     except Exception:  # any lookup failure means "not a name of this circuit"
         return False
     return True
+
+
+def _common_mode(result: Any, owner: str, number: Any) -> float | None:
+    """``U1.Vcm`` from the signals' values, or ``None`` if they are not all given."""
+    try:
+        return number(result.common_mode(owner), f"the common-mode voltage of {owner}")
+    except OpsymError:
+        return None
 
 
 def _tolerance_plan(g_expr, subs, given, names, resistors, notes):

@@ -3,6 +3,7 @@
 import math
 
 import pytest
+import sympy as sp
 
 import opsym
 from opsym.errors import BudgetError
@@ -53,6 +54,31 @@ def test_cmrr_error_referred_to_input():
     row = b.row("U1.Vcm")
     assert row.output == pytest.approx(316.2e-6, rel=1e-4)
     assert row.input == pytest.approx(31.62e-6, rel=1e-4)
+    # The same case with Vcm derived from the signal: the + pin sits at Vin = 1 V.
+    derived = error_budget(c.analyze("out"), {"Vin": 1.0}, {"U1": params})
+    assert derived.row("U1.Vcm").value == pytest.approx(1.0, rel=1e-12)
+    assert derived.row("U1.Vcm").output == pytest.approx(316.2e-6, rel=1e-4)
+    assert any("from the signal values" in n for n in derived.notes)
+
+
+def test_common_mode_of_a_difference_stage_is_derived_from_its_signals():
+    # Vcm at the pins = V2·R4/(R3 + R4) with ideal op-amp [derived: KCL, divider];
+    # difference amplifier of reference-checks §8 (Sedra & Smith 6th ed., §2.4) [pub].
+    c = opsym.Circuit("difference")
+    c.voltage_source("V1", "a", "0")
+    c.voltage_source("V2", "b", "0")
+    c.resistor("R1", "a", "n")
+    c.resistor("R2", "n", "out")
+    c.resistor("R3", "b", "p")
+    c.resistor("R4", "p", "0")
+    c.opamp("U1", plus="p", minus="n", out="out", cmrr=True)
+    res = c.analyze("out")
+    R3, R4, V2 = c.symbol("R3"), c.symbol("R4"), c.symbol("V2")
+    assert sp.simplify(res.common_mode("U1") - V2 * R4 / (R3 + R4)) == 0
+    values = {"R1": "10k", "R2": "100k", "R3": "10k", "R4": "100k", "V1": 1.0, "V2": 1.01}
+    b = error_budget(res, values, {"U1": opamp_parameters("generic precision bipolar")},
+                     signal="V2")  # fmt: skip
+    assert b.row("U1.Vcm").value == pytest.approx(1.01 * 100 / 110, rel=1e-12)
 
 
 def test_adc_columns():
