@@ -424,9 +424,11 @@ class _Reader:
                 self.values[f"{name}.{what}"] = value
         if t.has("parameters"):
             self.opamps[name] = self.parameter_set(name, t)
+        flagged = ("offset", "bias", "cmrr", "psrr")  # Circuit.opamp's own switches
         circuit.opamp(
             name, plus=plus, minus=minus, out=out, gain=gain, offset="offset" in include,
             bias="bias" in include, cmrr="cmrr" in include, psrr="psrr" in include,
+            extra=[KINDS[k]() for k in include if k not in flagged],
         )  # fmt: skip
 
     def parameter_set(self, name: str, t: Table) -> OpAmpParams:

@@ -269,3 +269,32 @@ def test_title_defaults_to_the_file_name(tmp_path):
     path = tmp_path / "my-amp.toml"
     path.write_text(BASE.replace('title = "inverting"\n', ""), encoding="utf-8")
     assert load_design(path).title == "my-amp"
+
+
+def test_a_registered_non_ideality_is_read_from_include(monkeypatch):
+    """A new kind of error source is one class plus its KINDS entry (DEVELOPERS.md)."""
+    from opsym.model import nonideal, symbols
+
+    class SeriesDrift(nonideal.NonIdeal):
+        kind = "drift"
+
+        def sources(self, opamp):
+            return (symbols.opamp_symbol(opamp, "Vdrift"),)
+
+        def injections(self, opamp):
+            return (nonideal.SeriesVoltage(symbols.opamp_symbol(opamp, "Vdrift"), sp.S.One),)
+
+    monkeypatch.setitem(symbols.OPAMP_PARAMETERS, "Vdrift", {"real": True})
+    monkeypatch.setitem(nonideal.KINDS, "drift", SeriesDrift)
+    design = parse_design(
+        'output = "out"\n'
+        "[resistors]\n"
+        'R1 = { between = ["n", "0"] }\n'
+        'R2 = { between = ["n", "out"] }\n'
+        "[opamps.U1]\n"
+        'plus = "0"\nminus = "n"\nout = "out"\ninclude = ["offset", "drift"]\n'
+    )
+    res = design.circuit.analyze("out")
+    vos, drift = design.circuit.symbol("U1.Vos"), sp.Symbol("U1.Vdrift", real=True)
+    assert set(res.terms) == {vos, drift}
+    assert sp.simplify(res.coefficient(drift) - res.coefficient(vos)) == 0
