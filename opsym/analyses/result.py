@@ -191,7 +191,14 @@ class Result:
     # -- new results ----------------------------------------------------------------
 
     def with_average_bias(self) -> Result:
-        """Rewrite ``Ib±`` as ``Ib ± Ios/2`` (``Ios = Ib+ − Ib-``): terms keyed by Ib, Ios."""
+        """Rewrite ``Ib±`` as ``Ib ± Ios/2`` (``Ios = Ib+ − Ib-``): terms keyed by Ib, Ios.
+
+        Examples
+        --------
+        >>> avg = _stage().with_average_bias()
+        >>> avg.coefficient("U1.Ib"), avg.coefficient("U1.Ios")
+        ((R1*R2 - R1*Rs - R2*Rs)/R1, -(R1*R2 + R1*Rs + R2*Rs)/(2*R1))
+        """
         if self._averaged:
             return self
         coefficients: dict[sp.Symbol, sp.Expr] = {}
@@ -214,7 +221,13 @@ class Result:
         return self._replace(coefficients=coefficients, sources=tuple(sources), averaged=True)
 
     def subs(self, mapping: Mapping[Any, Any]) -> Result:
-        """Substitute values or expressions for symbols (names or symbols as keys)."""
+        """Substitute values or expressions for symbols (names or symbols as keys).
+
+        Examples
+        --------
+        >>> _stage().subs({"R1": "1k", "R2": "9k"}).coefficient("U1.Ib+")
+        -10*Rs
+        """
         replacements = {self._any_symbol(k): self._value(k, v) for k, v in mapping.items()}
         coefficients = {s: c.xreplace(replacements) for s, c in self._coefficients.items()}
         return self._replace(
@@ -222,7 +235,16 @@ class Result:
         )
 
     def ideal(self) -> Result:
-        """The same result with every finite open-loop gain taken to infinity."""
+        """The same result with every finite open-loop gain taken to infinity.
+
+        Examples
+        --------
+        >>> res = _stage(gain="finite")
+        >>> res.coefficient("Vs")
+        U1.A*(R1 + R2)/(R1*U1.A + R1 + R2)
+        >>> res.ideal().coefficient("Vs")
+        (R1 + R2)/R1
+        """
         finite = [a for a in self._circuit.opamps if a.gain is not None]
         if not finite:
             return self
@@ -249,6 +271,15 @@ class Result:
 
         Raises :class:`~opsym.NoSolutionError` when no admissible (positive, for
         a component) value exists.
+
+        Examples
+        --------
+        >>> _stage().null("U1.Ib", by="Rs")
+        Eq(Rs, R1*R2/(R1 + R2))
+        >>> _stage().null("U1.Vos", by="R2")  # doctest: +ELLIPSIS
+        Traceback (most recent call last):
+        ...
+        opsym.errors.NoSolutionError: no positive value of R2 makes the coefficient of U1.Vos ...
         """
         coeff = self.coefficient(source)
         x = self._free_symbol(by, "null")
@@ -279,6 +310,14 @@ class Result:
 
         Negative when the gain falls short. ``order=1`` gives the first-order
         term in ``1/A`` (``−1/(A·beta)`` for a single stage).
+
+        Examples
+        --------
+        >>> res = _stage(gain="finite")
+        >>> res.gain_error()
+        -(R1 + R2)/(R1*U1.A + R1 + R2)
+        >>> res.gain_error(order=1)
+        -(R1 + R2)/(R1*U1.A)
         """
         sig = self._signal(signal)
         g = self.coefficient(sig)
@@ -319,6 +358,11 @@ class Result:
         """Sensitivity of a coefficient (``of`` a source, or ``"gain"``) to ``component``.
 
         Normalized: ``S = (x/y)·∂y/∂x``; otherwise ``∂y/∂x``.
+
+        Examples
+        --------
+        >>> _stage().sensitivity("R2", of="gain")
+        R2/(R1 + R2)
         """
         y = self.coefficient(self._signal(signal)) if of == "gain" else self.coefficient(of)
         x = self._free_symbol(component, "sensitivity")
@@ -375,7 +419,13 @@ class Result:
         return self._coefficients[sym]
 
     def input_referred(self, signal: str | sp.Symbol | None = None) -> dict[sp.Symbol, sp.Expr]:
-        """Every other source's coefficient divided by the signal's: errors at the input."""
+        """Every other source's coefficient divided by the signal's: errors at the input.
+
+        Examples
+        --------
+        >>> _stage().input_referred("Vs")
+        {U1.Vos: 1, U1.Ib+: -Rs, U1.Ib-: R1*R2/(R1 + R2)}
+        """
         sig = self._signal(signal)
         g = self.coefficient(sig)
         if g == 0:
@@ -465,3 +515,14 @@ class Result:
                 "name the one you mean with signal="
             )
         return signals[0]
+
+
+def _stage(gain: str = "ideal") -> Result:
+    """The module example's non-inverting stage (Vs through Rs; R1, R2), for the examples."""
+    c = Circuit("non-inverting")
+    c.voltage_source("Vs", "s", "0")
+    c.resistor("Rs", "s", "p")
+    c.resistor("R1", "n", "0")
+    c.resistor("R2", "n", "out")
+    c.opamp("U1", plus="p", minus="n", out="out", gain=gain)
+    return c.analyze("out")
