@@ -29,7 +29,6 @@ from __future__ import annotations
 import dataclasses
 from collections.abc import Mapping
 from dataclasses import dataclass
-from types import MappingProxyType
 from typing import TYPE_CHECKING, Any
 
 import sympy as sp
@@ -131,12 +130,12 @@ class Result:
         return tuple(s.symbol for s in self._sources if s.kind != "signal")
 
     @property
-    def fixed(self) -> Mapping[sp.Symbol, sp.Expr]:
+    def fixed(self) -> dict[sp.Symbol, sp.Expr]:
         """Values fixed before solving (``analyze(values=...)``)."""
-        return MappingProxyType(self._fixed)
+        return dict(self._fixed)  # a copy: the result itself never changes
 
     @property
-    def terms(self) -> Mapping[sp.Symbol, sp.Expr]:
+    def terms(self) -> dict[sp.Symbol, sp.Expr]:
         """``{source symbol: coefficient}`` for every independent source.
 
         Each coefficient is as solved: a product of factored block results, or
@@ -149,7 +148,7 @@ class Result:
                 self._terms = {s: self.coefficient(s) for s in self._coefficients}
             else:
                 self._terms = dict(self._coefficients)
-        return MappingProxyType(self._terms)
+        return dict(self._terms)  # a copy: the result itself never changes
 
     def simplify(self) -> Result:
         """The same result with every coefficient collected and factored (cached)."""
@@ -160,10 +159,11 @@ class Result:
     def expression(self) -> sp.Expr:
         """The total output with every source superposed."""
         subs = {**self._fixed, **self._post}
+        terms = self.terms
         parts = []
         for info in self._sources:
             value = info.value.xreplace(subs) if subs else info.value
-            parts.append(self.terms[info.symbol] * value)
+            parts.append(terms[info.symbol] * value)
         return sp.Add(*parts)
 
     def __iter__(self) -> Iterator[sp.Symbol]:
