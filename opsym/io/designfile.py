@@ -38,10 +38,8 @@ from __future__ import annotations
 
 import os
 import sys
-from collections.abc import Callable, Mapping
-from dataclasses import dataclass, field
-from types import MappingProxyType
-from typing import TYPE_CHECKING, Any
+from collections.abc import Mapping
+from typing import Any
 
 import sympy as sp
 
@@ -54,14 +52,21 @@ from ..model.topology import check_topology
 from ..numeric.eseries import SERIES
 from ..numeric.params import OpAmpParams, ResistorParams, opamp_parameters, resistor_parameters
 from ._tables import Locator, Table
+from .design import (
+    ELEMENT_TABLES,
+    FORMAT,
+    PARAMETER_UNITS,
+    BudgetSettings,
+    Design,
+    NullRequest,
+    SensitivityRequest,
+    ToleranceSettings,
+)
 
 if sys.version_info >= (3, 11):
     import tomllib
 else:  # pragma: no cover - Python 3.10 reads TOML with the tomli backport
     import tomli as tomllib
-
-if TYPE_CHECKING:
-    from ..analyses.result import Result
 
 __all__ = [
     "ELEMENT_TABLES",
@@ -76,138 +81,10 @@ __all__ = [
     "parse_design",
 ]
 
-#: The design-file format this version reads and writes.
-FORMAT = 1
 _MAX_BYTES = 1_000_000
-
-#: Element tables, in the order they are read and written.
-ELEMENT_TABLES = ("resistors", "capacitors", "voltage-sources", "current-sources", "opamps")
 _TOP_KEYS = ("format", "title", "notes", "output", "input", *ELEMENT_TABLES)
 _SETTING_TABLES = ("analysis", "budget", "tolerance")
 _DEFAULT_INCLUDE = ("offset", "bias")
-#: Op-amp parameter fields and the unit of each (``None``: a plain ratio).
-PARAMETER_UNITS: dict[str, str | None] = {
-    "vos_typ": "V", "vos_max": "V", "drift_typ": "V/°C", "drift_max": "V/°C",
-    "ib_typ": "A", "ib_max": "A", "ios_typ": "A", "ios_max": "A",
-    "a_typ": None, "a_min": None,
-    "cmrr_typ_db": "dB", "cmrr_min_db": "dB", "psrr_typ_db": "dB", "psrr_min_db": "dB",
-}  # fmt: skip
-
-
-@dataclass(frozen=True)
-class NullRequest:
-    """``term by component``: the value of ``component`` that nulls ``term``'s coefficient."""
-
-    term: str
-    by: str
-
-    def __str__(self) -> str:
-        return f"{self.term} by {self.by}"
-
-
-@dataclass(frozen=True)
-class SensitivityRequest:
-    """Sensitivities of the coefficients ``of`` (``"gain"`` or sources) to components ``to``."""
-
-    of: tuple[str, ...] = ("gain",)
-    to: tuple[str, ...] = ()
-    normalized: bool = True
-
-
-@dataclass(frozen=True)
-class BudgetSettings:
-    """How to put numbers into the error budget (see :func:`opsym.numeric.budget.error_budget`).
-
-    ``temperatures`` lists the temperatures (°C) to evaluate; ``adc_bits`` with
-    ``adc_reference`` (V) and ``adc_range`` describe the converter;
-    ``full_scale`` (V) is the output span for ppm of full scale.
-    """
-
-    grade: str = "max"
-    temperatures: tuple[float, ...] = (25.0,)
-    full_scale: sp.Expr | None = None
-    adc_bits: int | None = None
-    adc_reference: sp.Expr | None = None
-    adc_range: str = "unipolar"
-
-
-@dataclass(frozen=True)
-class ToleranceSettings:
-    """A tolerance study of ``of`` (``"gain"`` or sources): corners, bound and Monte Carlo."""
-
-    of: tuple[str, ...] = ("gain",)
-    samples: int = 10000
-    seed: int | None = None
-    distribution: str = "uniform"
-
-
-@dataclass(frozen=True)
-class Design:
-    """A loaded design file: the circuit, its numbers and the analyses wanted.
-
-    Attributes
-    ----------
-    circuit : opsym.Circuit
-        Elements with ``symbolic = false`` carry their number; the rest are
-        symbols, so results stay in closed form.
-    output : str or (str, str)
-        Output node, or the (plus, minus) pair of a differential output.
-    values : mapping of str to sympy.Expr
-        Nominal numbers by name (``"R1"``, ``"Vin"``, ``"U1.Vcm"``), put in
-        after the derivation.
-    signal : str or None
-        The input signal for gain, gain error and input-referred errors.
-    opamps : mapping of str to OpAmpParams
-        The parameter set of each op-amp that has one.
-    resistors : mapping of str to ResistorParams
-        Tolerance and TCR of each resistor that has them (own or the default).
-    resistor_default : ResistorParams or None
-        The grade ``[tolerance] resistors`` gives every resistor without its own.
-    nulls, sensitivity, budget, tolerance
-        The analyses asked for (``None``: not asked).
-    average_bias : bool
-        Report bias terms as ``Ib``/``Ios`` (true) or ``Ib+``/``Ib-``.
-    notes : str
-        Free text for the design notes.
-    series : str
-        The E-series for the standard values that meet null conditions.
-    source : str
-        The file it came from (``"<text>"`` for text).
-    """
-
-    circuit: Circuit
-    output: str | tuple[str, str]
-    values: Mapping[str, sp.Expr] = field(default_factory=dict)
-    signal: str | None = None
-    opamps: Mapping[str, OpAmpParams] = field(default_factory=dict)
-    resistors: Mapping[str, ResistorParams] = field(default_factory=dict)
-    nulls: tuple[NullRequest, ...] = ()
-    sensitivity: SensitivityRequest | None = None
-    budget: BudgetSettings | None = None
-    tolerance: ToleranceSettings | None = None
-    average_bias: bool = True
-    notes: str = ""
-    source: str = "<text>"
-    resistor_default: ResistorParams | None = None
-    series: str = "E96"
-
-    def __post_init__(self) -> None:
-        for name in ("values", "opamps", "resistors"):
-            object.__setattr__(self, name, MappingProxyType(dict(getattr(self, name))))
-
-    @property
-    def title(self) -> str:
-        """The circuit's title."""
-        return self.circuit.title
-
-    def analyze(self, progress: Callable[[int, int, str], Any] | None = None) -> Result:
-        """Derive the output in closed form (``Ib±`` as ``Ib``/``Ios`` if ``average_bias``)."""
-        result = self.circuit.analyze(self.output, progress=progress)
-        return result.with_average_bias() if self.average_bias else result
-
-    def numeric_values(self) -> dict[str, float]:
-        """The nominal numbers as floats, for the numeric analyses."""
-        return {k: float(v) for k, v in self.values.items()}
 
 
 def load_design(path: str | os.PathLike[str]) -> Design:
