@@ -36,6 +36,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import BudgetError
+from ._views import TableViews
 from .budget import Budget, _evaluate, _prepare
 from .params import REFERENCE_TEMPERATURE, OpAmpParams
 from .units import format_si
@@ -44,7 +45,7 @@ __all__ = ["TemperatureSweep", "budget_over_temperature"]
 
 
 @dataclass(frozen=True)
-class TemperatureSweep:
+class TemperatureSweep(TableViews):
     """Budgets at each temperature of a grid.
 
     Attributes
@@ -114,18 +115,6 @@ class TemperatureSweep:
                 "resistor spread tolerance + TCR·|T − 25 °C|",
             ),
         )  # fmt: skip
-
-    def to_markdown(self) -> str:
-        """Markdown table."""
-        return self.table().to_markdown()
-
-    def to_latex(self) -> str:
-        """LaTeX booktabs table."""
-        return self.table().to_latex()
-
-    def to_text(self) -> str:
-        """Terminal table."""
-        return self.table().to_text()
 
 
 def _grid(low: float, high: float, step: float) -> list[float]:

@@ -37,6 +37,7 @@ import numpy as np
 import sympy as sp
 
 from ..errors import BudgetError
+from ._views import TableViews
 from .params import ResistorParams
 from .units import format_si, parse_fraction, parse_quantity
 
@@ -258,7 +259,7 @@ def monte_carlo(
 
 
 @dataclass(frozen=True)
-class ToleranceStudy:
+class ToleranceStudy(TableViews):
     """The three estimates of one quantity's spread, side by side.
 
     ``corner_low``/``corner_high`` are ``None`` when there were more parts than
@@ -332,18 +333,6 @@ class ToleranceStudy:
                 "part. First-order bound: nominal ± Σ|∂y/∂x·x|·t.",
             ),
         )
-
-    def to_markdown(self) -> str:
-        """Markdown table."""
-        return self.table().to_markdown()
-
-    def to_latex(self) -> str:
-        """LaTeX (booktabs) table."""
-        return self.table().to_latex()
-
-    def to_text(self) -> str:
-        """Plain-text table for a terminal."""
-        return self.table().to_text()
 
 
 def tolerance_analysis(
