@@ -109,8 +109,4 @@ def run(stream: TextIO | None = None) -> int:
     say("\nNumeric error budget: datasheet limits of the generic set, 0.1 % resistors,")
     say(f"a 16-bit ±2.5 V converter; signal gain {budget.input_gain:.5g} V/V:\n")
     say(budget.to_text())
-    say(
-        "\nA design aid: verify by measurement, and for medical or safety instrumentation "
-        "follow local codes and licensed review."
-    )
     return 0

@@ -40,7 +40,10 @@ RSS_RULE = (
     "RSS = √Σe², uncorrelated terms as in JCGM 100:2008 (GUM) §5.1.2 eq. (10); "
     "RSS of datasheet limits is common practice, not a GUM result"
 )
-SHORT_CAUTION = "A design aid: verify by measurement before relying on it."
+SHORT_CAUTION = (
+    "A design aid: verify by measurement; for medical or safety instrumentation follow "
+    "local codes and have the design reviewed by a licensed engineer."
+)
 
 
 # Preparing (symbolic → numbers, once) and evaluating (at a temperature, cheaply)
