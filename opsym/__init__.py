@@ -32,7 +32,8 @@ from .errors import (
     UnknownNameError,
     ValueSyntaxError,
 )
-from .io.designfile import Design, load_design, parse_design
+from .io.design import Design
+from .io.designfile import load_design, parse_design
 from .io.values import parse_value
 from .io.writer import dump_design
 from .model import (

@@ -68,18 +68,7 @@ if sys.version_info >= (3, 11):
 else:  # pragma: no cover - Python 3.10 reads TOML with the tomli backport
     import tomli as tomllib
 
-__all__ = [
-    "ELEMENT_TABLES",
-    "FORMAT",
-    "PARAMETER_UNITS",
-    "BudgetSettings",
-    "Design",
-    "NullRequest",
-    "SensitivityRequest",
-    "ToleranceSettings",
-    "load_design",
-    "parse_design",
-]
+__all__ = ["load_design", "parse_design"]  # the Design record lives in .design
 
 _MAX_BYTES = 1_000_000
 _TOP_KEYS = ("format", "title", "notes", "output", "input", *ELEMENT_TABLES)

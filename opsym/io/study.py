@@ -47,7 +47,7 @@ from ..numeric.budget import Budget, error_budget
 from ..numeric.eseries import NullChoice, choose_for_null
 from ..numeric.temperature import TemperatureSweep, budget_over_temperature
 from ..numeric.tolerance import ToleranceStudy, tolerance_analysis
-from .designfile import Design
+from .design import Design
 
 __all__ = ["Study", "run_design"]
 

@@ -1,4 +1,4 @@
-"""Write a circuit (or a whole :class:`~opsym.io.designfile.Design`) as a design file.
+"""Write a circuit (or a whole :class:`~opsym.io.design.Design`) as a design file.
 
 :func:`dump_design` returns TOML text that :func:`~opsym.io.designfile.parse_design`
 reads back to the same circuit, numbers and settings. A tiny writer for the
@@ -52,7 +52,7 @@ from ..model.elements import Capacitor, CurrentSource, OpAmp, Resistor, VoltageS
 from ..model.nonideal import KINDS
 from ..model.symbols import component_symbol, opamp_symbol, source_symbol
 from ..numeric.params import OPAMP_SETS, RESISTOR_SETS, BiasLaw, OpAmpParams, ResistorParams
-from .designfile import FORMAT, PARAMETER_UNITS, Design
+from .design import FORMAT, PARAMETER_UNITS, Design
 from .formatting import format_value, plain_decimal
 
 __all__ = ["dump_design"]
