@@ -2,7 +2,9 @@
 
 Declare a circuit, and opsym writes its nodal equations, solves them by
 superposition and returns every error term (offset, bias currents, finite gain,
-CMRR, PSRR) in closed form, with null conditions, sensitivities and LaTeX.
+CMRR, PSRR) in closed form, with null conditions, sensitivities and LaTeX. In
+the Laplace domain it gives transfer functions, bandwidth and gain error versus
+frequency, and a noise analysis adds every source's density in power.
 
 Examples
 --------
@@ -16,6 +18,7 @@ Examples
 <class 'opsym.model.circuit.Circuit'>
 """
 
+from .analyses.noise import NoiseBudget, NoiseResult
 from .analyses.result import Result, SourceInfo
 from .errors import (
     BudgetError,
@@ -40,12 +43,16 @@ from .model import (
     BiasCurrents,
     Circuit,
     CommonModeRejection,
+    CurrentNoise,
     InputOffset,
     NonIdeal,
     PinCurrent,
     SeriesVoltage,
+    SinglePole,
     SupplyRejection,
+    VoltageNoise,
 )
+from .model.symbols import LAPLACE as s
 from .numeric import (
     ADC,
     BiasLaw,
@@ -77,6 +84,7 @@ __all__ = [
     "Circuit",
     "CircuitError",
     "CommonModeRejection",
+    "CurrentNoise",
     "Design",
     "DesignFileError",
     "DuplicateNameError",
@@ -86,6 +94,8 @@ __all__ = [
     "MissingDependencyError",
     "NoFeedbackError",
     "NoSolutionError",
+    "NoiseBudget",
+    "NoiseResult",
     "NonIdeal",
     "OpAmpParams",
     "OpsymError",
@@ -93,11 +103,13 @@ __all__ = [
     "ResistorParams",
     "Result",
     "SeriesVoltage",
+    "SinglePole",
     "SingularCircuitError",
     "SourceInfo",
     "SupplyRejection",
     "UnknownNameError",
     "ValueSyntaxError",
+    "VoltageNoise",
     "__version__",
     "budget_over_temperature",
     "choose_for_null",
@@ -114,5 +126,6 @@ __all__ = [
     "parse_value",
     "preferred_value",
     "resistor_parameters",
+    "s",
     "tolerance_analysis",
 ]

@@ -1,4 +1,4 @@
-"""The Python examples in the README and the getting-started page run as written."""
+"""The Python examples in the README and the guides run as written."""
 
 from __future__ import annotations
 
@@ -10,7 +10,9 @@ import pytest
 ROOT = Path(__file__).resolve().parents[1]
 
 
-@pytest.mark.parametrize("doc", ["README.md", "docs/getting-started.md"])
+@pytest.mark.parametrize(
+    "doc", ["README.md", "docs/getting-started.md", "docs/frequency-and-noise.md"]
+)
 def test_python_examples_run(doc):
     text = (ROOT / doc).read_text(encoding="utf-8")
     blocks = re.findall(r"```python\n(.*?)```", text, re.S)

@@ -526,7 +526,7 @@ def test_singular_part_away_from_the_output():
 
 def test_gain_must_be_ideal_finite_or_a_number():
     c = opsym.Circuit("gain words")
-    with pytest.raises(opsym.InvalidValueError, match="'ideal', 'finite' or a number"):
+    with pytest.raises(opsym.InvalidValueError, match="'ideal', 'finite', 'pole' or a number"):
         c.opamp("U1", plus="p", minus="n", out="o", gain="fast")
     with pytest.raises(opsym.InvalidValueError, match="ambiguous"):
         c.opamp("U2", plus="p", minus="n", out="o", gain=None)

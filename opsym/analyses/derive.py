@@ -21,15 +21,15 @@ from typing import Any
 import sympy as sp
 
 from ..equations.adjoint import Progress, product, solve_adjoint
-from ..equations.mna import build_equations
+from ..equations.mna import DOMAINS, build_equations
 from ..errors import InvalidValueError, UnknownNameError
 from ..model.circuit import GROUND, Circuit, to_exact
 from ..model.elements import CurrentSource, OpAmp, VoltageSource
-from ..model.symbols import source_symbol
+from ..model.symbols import LAPLACE, OPAMP_PARAMETERS, source_symbol
 from ..model.topology import check_topology
 from .result import Result, SourceInfo
 
-__all__ = ["derive", "resolve_values"]
+__all__ = ["coefficients_of", "derive", "output_weights", "resolve_values", "sources_of"]
 
 
 def resolve_values(circuit: Circuit, values: Mapping[Any, Any] | None) -> dict[sp.Symbol, sp.Expr]:
@@ -48,6 +48,11 @@ def resolve_values(circuit: Circuit, values: Mapping[Any, Any] | None) -> dict[s
             sym = circuit.symbol(key)
         else:
             raise UnknownNameError(f"values: key {key!r} is not a name or symbol")
+        if sym == LAPLACE:
+            raise InvalidValueError(
+                "values: 's' is the Laplace variable, not a value to fix; evaluate a result "
+                "at frequencies with Result.response(f) instead"
+            )
         v = to_exact(value, f"values[{sym.name}]")
         if v.is_number and sym.is_positive and not v.is_positive:
             raise InvalidValueError(f"values[{sym.name}] = {v}: must be positive")
@@ -59,7 +64,7 @@ def _known_symbols(circuit: Circuit) -> dict[str, sp.Symbol]:
     known: dict[str, sp.Symbol] = {}
     for e in circuit.elements:
         if isinstance(e, OpAmp):
-            for what in ("Vos", "Ib+", "Ib-", "Ib", "Ios", "A", "CMRR", "Vcm", "PSRR", "dVs"):
+            for what in OPAMP_PARAMETERS:
                 sym = circuit.symbol(f"{e.name}.{what}")
                 known[sym.name] = sym
         else:
@@ -70,7 +75,7 @@ def _known_symbols(circuit: Circuit) -> dict[str, sp.Symbol]:
     return known
 
 
-def _output_weights(circuit: Circuit, output, index: dict[str, int]) -> tuple[dict, Any]:
+def output_weights(circuit: Circuit, output, index: dict[str, int]) -> tuple[dict, Any]:
     if isinstance(output, str):
         pair = (circuit.node(output), GROUND)
     elif isinstance(output, (tuple, list)) and len(output) == 2:
@@ -89,14 +94,20 @@ def _output_weights(circuit: Circuit, output, index: dict[str, int]) -> tuple[di
     return weights, pair[0] if pair[1] == GROUND else pair
 
 
-def sources_of(circuit: Circuit) -> list[SourceInfo]:
-    """Every independent source, signals first, then each op-amp's error sources."""
+def sources_of(circuit: Circuit, noise: bool = False) -> list[SourceInfo]:
+    """Every independent source, signals first, then each op-amp's error sources.
+
+    Noise kinds are left out unless ``noise`` asks for them (and then only they
+    follow the signals).
+    """
     infos: list[SourceInfo] = []
     for e in circuit.elements:
         if isinstance(e, (VoltageSource, CurrentSource)):
             infos.append(SourceInfo(source_symbol(e.name), "signal", e.name, e.value))
     for amp in circuit.opamps:
         for kind in amp.nonideals:
+            if kind.noise != noise:
+                continue
             for sym in kind.sources(amp.name):
                 infos.append(SourceInfo(sym, kind.kind, amp.name, sym))
     return infos
@@ -107,21 +118,33 @@ def derive(
     output,
     values: Mapping[Any, Any] | None = None,
     progress: Progress | None = None,
+    domain: str = "dc",
 ) -> Result:
     """Check ``circuit``, build its equations and solve for every source's coefficient."""
-    check_topology(circuit)
+    if domain not in DOMAINS:
+        raise InvalidValueError(f"domain {domain!r} is not known; use 'dc' or 's'")
+    check_topology(circuit, domain)
     fixed = resolve_values(circuit, values)
-    eqs = build_equations(circuit, fixed)
-    weights, label = _output_weights(circuit, output, eqs.index)
+    eqs = build_equations(circuit, fixed, domain=domain)
+    weights, label = output_weights(circuit, output, eqs.index)
     z = solve_adjoint(eqs, weights, progress=progress)
-    coefficients: dict[sp.Symbol, sp.Expr] = {}
-    for info in sources_of(circuit):
-        stamps = eqs.sources.get(info.symbol, {})
-        coefficients[info.symbol] = sp.Add(*[product(z[r], w) for r, w in stamps.items()])
+    sources = sources_of(circuit)
     return Result(
         circuit=circuit,
         output=label,
-        coefficients=coefficients,
-        sources=tuple(sources_of(circuit)),
+        coefficients=coefficients_of(eqs, z, sources),
+        sources=tuple(sources),
         fixed=fixed,
+        domain=domain,
     )
+
+
+def coefficients_of(
+    eqs, z: list[sp.Expr], sources: list[SourceInfo]
+) -> dict[sp.Symbol, sp.Expr]:
+    """Each source's coefficient: the dot product of ``z`` with its stamps."""
+    coefficients: dict[sp.Symbol, sp.Expr] = {}
+    for info in sources:
+        stamps = eqs.sources.get(info.symbol, {})
+        coefficients[info.symbol] = sp.Add(*[product(z[r], w) for r, w in stamps.items()])
+    return coefficients

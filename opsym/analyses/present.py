@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import sympy as sp
 
-__all__ = ["TIDY_LIMIT", "Parallel", "at_infinity", "tidy", "trade_form"]
+__all__ = ["TIDY_LIMIT", "Parallel", "at_infinity", "tidy", "trade_form", "transfer_form"]
 
 #: Largest operation count of a sum that :func:`tidy` still factors.
 TIDY_LIMIT = 1500
@@ -40,6 +40,44 @@ def tidy(expr: sp.Expr, limit: int = TIDY_LIMIT, deep: bool = False) -> sp.Expr:
     if isinstance(expr, sp.Add) and sp.count_ops(expr) <= limit:
         return sp.factor(sp.together(expr))
     return expr
+
+
+def transfer_form(expr: sp.Expr, s: sp.Symbol, limit: int = TIDY_LIMIT) -> sp.Expr:
+    """A transfer function as ``K·N(s)/D(s)`` with ``N(0) = D(0) = 1`` where possible.
+
+    The numerator and denominator are collected in powers of ``s``, each
+    coefficient factored, so the DC gain ``K`` and the time constants can be
+    read off. Expressions larger than ``limit`` operations are left as solved.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> R1, R2, C2, s = sp.symbols("R1 R2 C2 s", positive=True)
+    >>> transfer_form(-1 / (R1 / R2 + s * C2 * R1), s)
+    -R2/(R1*(C2*R2*s + 1))
+    """
+    if s not in expr.free_symbols:
+        return tidy(expr, limit, deep=True)
+    if sp.count_ops(expr) > limit:
+        return expr
+    num, den = sp.fraction(sp.cancel(sp.together(expr)))
+    num_p, den_p = sp.Poly(num, s), sp.Poly(den, s)
+    n_low = _lowest(num_p)
+    d_low = _lowest(den_p)
+    scale = sp.factor(num_p.coeff_monomial(s**n_low) / den_p.coeff_monomial(s**d_low))
+    n_poly = _normalised(num_p, s, n_low)
+    d_poly = _normalised(den_p, s, d_low)
+    return scale * s ** (n_low - d_low) * n_poly / d_poly
+
+
+def _lowest(poly: sp.Poly) -> int:
+    return min(m[0] for m in poly.monoms())
+
+
+def _normalised(poly: sp.Poly, s: sp.Symbol, low: int) -> sp.Expr:
+    """``poly/(its s**low coefficient · s**low)``, coefficients factored: constant term 1."""
+    lead = poly.coeff_monomial(s**low)
+    return sp.Add(*[sp.factor(c / lead) * s ** (k - low) for (k,), c in poly.terms() if c != 0])
 
 
 def _has_fraction(expr: sp.Expr) -> bool:

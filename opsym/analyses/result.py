@@ -36,8 +36,9 @@ import sympy as sp
 from ..errors import InvalidValueError, NoSolutionError, SingularCircuitError, UnknownNameError
 from ..model.circuit import Circuit, to_exact
 from ..model.elements import OpAmp
-from ..model.symbols import latex_name, opamp_symbol
-from .present import at_infinity, tidy
+from ..model.symbols import LAPLACE, latex_name, opamp_symbol
+from .present import at_infinity, tidy, transfer_form
+from .response import FrequencyResponse
 
 if TYPE_CHECKING:
     from collections.abc import Iterator
@@ -60,7 +61,7 @@ class SourceInfo:
     value: sp.Expr
 
 
-class Result:
+class Result(FrequencyResponse):
     """Every source's coefficient at one output of one circuit.
 
     Build it with :meth:`opsym.Circuit.analyze`. It never changes: every
@@ -71,6 +72,7 @@ class Result:
         "_averaged",
         "_circuit",
         "_coefficients",
+        "_domain",
         "_fixed",
         "_output",
         "_post",
@@ -90,8 +92,10 @@ class Result:
         post: Mapping[sp.Symbol, sp.Expr] | None = None,
         averaged: bool = False,
         substituted: bool = False,
+        domain: str = "dc",
     ) -> None:
         self._circuit = circuit
+        self._domain = domain
         self._output = output
         self._coefficients = dict(coefficients)
         self._sources = tuple(sources)
@@ -113,6 +117,11 @@ class Result:
     def output(self) -> str | tuple[str, str]:
         """The output node, or the (plus, minus) pair."""
         return self._output
+
+    @property
+    def domain(self) -> str:
+        """``"dc"`` or ``"s"``: whether the coefficients are functions of ``s``."""
+        return self._domain
 
     @property
     def sources(self) -> tuple[SourceInfo, ...]:
@@ -185,7 +194,11 @@ class Result:
                 f"{', '.join(str(s) for s in self._coefficients)}"
             )
         if sym not in self._readable:
-            self._readable[sym] = tidy(self._coefficients[sym], deep=self._substituted)
+            raw = self._coefficients[sym]
+            if self._domain == "s" and LAPLACE in raw.free_symbols:
+                self._readable[sym] = transfer_form(raw, LAPLACE)
+            else:
+                self._readable[sym] = tidy(raw, deep=self._substituted)
         return self._readable[sym]
 
     # -- new results ----------------------------------------------------------------
@@ -254,7 +267,7 @@ class Result:
         for e in self._circuit.elements:
             ideal_circuit._add(dataclasses.replace(e, gain=None) if isinstance(e, OpAmp) else e)
         try:
-            fresh = derive(ideal_circuit, self._output, values=self._fixed)
+            fresh = derive(ideal_circuit, self._output, values=self._fixed, domain=self._domain)
         except SingularCircuitError:
             gains = list({g for a in finite if a.gain is not None for g in a.gain.free_symbols})
             coefficients = {s: at_infinity(c, gains) for s, c in self._coefficients.items()}
@@ -262,6 +275,33 @@ class Result:
         if self._post:
             fresh = fresh.subs(self._post)
         fresh = fresh._replace(circuit=self._circuit, substituted=self._substituted)
+        return fresh.with_average_bias() if self._averaged else fresh
+
+    def at_dc(self) -> Result:
+        """The DC result (``s = 0``) of a Laplace-domain one; a DC result is returned as is.
+
+        Re-derived at DC, so a circuit that has no DC solution (an integrator)
+        raises the DC error rather than giving infinities.
+
+        Examples
+        --------
+        >>> import opsym
+        >>> c = opsym.Circuit("RC filter")
+        >>> c.voltage_source("Vin", "in", "0")
+        >>> c.resistor("R1", "in", "p")
+        >>> c.capacitor("C1", "p", "0")
+        >>> c.opamp("U1", plus="p", minus="out", out="out")
+        >>> c.analyze("out", domain="s").at_dc().coefficient("Vin")
+        1
+        """
+        if self._domain == "dc":
+            return self
+        from .derive import derive
+
+        fresh = derive(self._circuit, self._output, values=self._fixed)
+        if self._post:
+            fresh = fresh.subs({k: v for k, v in self._post.items()})
+        fresh = fresh._replace(substituted=self._substituted)
         return fresh.with_average_bias() if self._averaged else fresh
 
     # -- analyses ---------------------------------------------------------------------
@@ -335,6 +375,7 @@ class Result:
                 for a in self._circuit.opamps
                 if a.gain is not None
                 for g in a.gain.xreplace(self._fixed).free_symbols
+                if g != LAPLACE
             },
             key=str,
         )
@@ -474,6 +515,7 @@ class Result:
             "post": self._post,
             "averaged": self._averaged,
             "substituted": self._substituted,
+            "domain": self._domain,
         }
         state.update(changes)
         return Result(**state)

@@ -160,7 +160,7 @@ def _structural_error(eqs: NodalEquations, err: StructurallySingular) -> Singula
 def _block_error(eqs: NodalEquations, block: list[int]) -> SingularCircuitError:
     labels = "; ".join(eqs.row_labels[r] for r in block)
     return SingularCircuitError(
-        f"the circuit has no unique DC solution: the equations ({labels}) are dependent. "
+        f"the circuit has no unique solution: the equations ({labels}) are dependent. "
         f"Elements involved: {_elements_of(eqs, block)}. Check for an op-amp whose feedback "
         "network cannot set its inputs, or values that make a bridge exactly degenerate"
     )

@@ -14,6 +14,13 @@ Brennan, IEEE Trans. Circuits Syst. CAS-22(6), 1975). Rows are:
 Every independent source appears only on the right-hand side, with one column
 of stamps each, so one adjoint solve gives all their coefficients at once.
 
+The DC domain sets ``s = 0``: capacitors are open and inductors are wires
+(a branch row ``V(a) - V(b) = 0``). The s domain stamps ``s·C`` for each
+capacitor and the branch row ``V(a) - V(b) - s·L·I = 0`` for each inductor.
+With ``thermal`` each resistor also gets the source ``R.en``, its thermal noise
+voltage in series, stamped as the equivalent current ``R.en/R`` from ``a`` to
+``b`` in parallel (Norton).
+
 Examples
 --------
 >>> import opsym
@@ -37,12 +44,16 @@ from dataclasses import dataclass
 
 import sympy as sp
 
+from ..errors import InvalidValueError
 from ..model.circuit import GROUND, Circuit
-from ..model.elements import Capacitor, CurrentSource, OpAmp, Resistor, VoltageSource
+from ..model.elements import Capacitor, CurrentSource, Inductor, OpAmp, Resistor, VoltageSource
 from ..model.nonideal import PinCurrent, SeriesVoltage
-from ..model.symbols import source_symbol
+from ..model.symbols import LAPLACE, source_symbol, thermal_symbol
 
-__all__ = ["NodalEquations", "build_equations"]
+__all__ = ["DOMAINS", "NodalEquations", "build_equations"]
+
+#: The analysis domains: DC (``s = 0``) and Laplace.
+DOMAINS = ("dc", "s")
 
 
 @dataclass(frozen=True)
@@ -129,15 +140,23 @@ class _Builder:
 
 
 def build_equations(
-    circuit: Circuit, values: Mapping[sp.Symbol, sp.Expr] | None = None
+    circuit: Circuit,
+    values: Mapping[sp.Symbol, sp.Expr] | None = None,
+    domain: str = "dc",
+    thermal: bool = False,
 ) -> NodalEquations:
     """Stamp ``circuit`` into its MNA system, with ``values`` substituted first.
 
     ``values`` maps component or op-amp parameter symbols to numbers or
     expressions; sources stay symbolic whatever it says (their values enter
-    the superposed total only).
+    the superposed total only). ``domain`` is ``"dc"`` or ``"s"``; ``thermal``
+    adds each resistor's noise voltage ``R.en`` as a source.
     """
+    if domain not in DOMAINS:
+        raise InvalidValueError(f"domain {domain!r} is not known; use 'dc' or 's'")
     values = dict(values or {})
+    if domain == "dc":
+        values[LAPLACE] = sp.S.Zero
     nodes = [n for n in circuit.nodes if n != GROUND]
     b = _Builder(nodes)
 
@@ -153,8 +172,27 @@ def build_equations(
             b.add(rb, cb, g, e.name)
             b.add(ra, cb, -g, e.name)
             b.add(rb, ca, -g, e.name)
+            if thermal:
+                b.source(ra, thermal_symbol(e.name), -g, e.name)
+                b.source(rb, thermal_symbol(e.name), g, e.name)
         elif isinstance(e, Capacitor):
-            continue  # open circuit at DC
+            if domain == "dc":
+                continue  # open circuit at DC
+            y = LAPLACE * val(e.value)
+            ra, rb = b.row_of(e.a), b.row_of(e.b)
+            ca, cb = b.col(e.a), b.col(e.b)
+            b.add(ra, ca, y, e.name)
+            b.add(rb, cb, y, e.name)
+            b.add(ra, cb, -y, e.name)
+            b.add(rb, ca, -y, e.name)
+        elif isinstance(e, Inductor):
+            row, col = b.branch(e.name, f"inductor {e.name}")
+            b.add(b.row_of(e.a), col, sp.S.One, e.name)
+            b.add(b.row_of(e.b), col, sp.S.NegativeOne, e.name)
+            b.add(row, b.col(e.a), sp.S.One, e.name)
+            b.add(row, b.col(e.b), sp.S.NegativeOne, e.name)
+            if domain == "s":
+                b.add(row, col, -LAPLACE * val(e.value), e.name)
         elif isinstance(e, CurrentSource):
             s = source_symbol(e.name)
             b.source(b.row_of(e.a), s, sp.S.NegativeOne, e.name)

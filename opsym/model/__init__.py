@@ -1,31 +1,50 @@
 """The circuit model: elements, op-amp non-idealities and symbol names."""
 
 from .circuit import GROUND, Circuit
-from .elements import Capacitor, CurrentSource, Element, OpAmp, Resistor, VoltageSource
+from .elements import (
+    Capacitor,
+    CurrentSource,
+    Element,
+    Inductor,
+    OpAmp,
+    Resistor,
+    VoltageSource,
+)
 from .nonideal import (
     BiasCurrents,
     CommonModeRejection,
+    CurrentNoise,
     InputOffset,
+    NoiseSpectrum,
     NonIdeal,
     PinCurrent,
     SeriesVoltage,
+    SinglePole,
     SupplyRejection,
+    VoltageNoise,
 )
+from .symbols import LAPLACE
 
 __all__ = [
     "GROUND",
+    "LAPLACE",
     "BiasCurrents",
     "Capacitor",
     "Circuit",
     "CommonModeRejection",
+    "CurrentNoise",
     "CurrentSource",
     "Element",
+    "Inductor",
     "InputOffset",
+    "NoiseSpectrum",
     "NonIdeal",
     "OpAmp",
     "PinCurrent",
     "Resistor",
     "SeriesVoltage",
+    "SinglePole",
     "SupplyRejection",
+    "VoltageNoise",
     "VoltageSource",
 ]

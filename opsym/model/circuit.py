@@ -30,11 +30,20 @@ from typing import TYPE_CHECKING, Any
 import sympy as sp
 
 from ..errors import DuplicateNameError, InvalidValueError, UnknownNameError, ValueSyntaxError
-from .elements import Capacitor, CurrentSource, Element, OpAmp, Resistor, VoltageSource
-from .nonideal import KINDS, NonIdeal
-from .symbols import OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
+from .elements import (
+    Capacitor,
+    CurrentSource,
+    Element,
+    Inductor,
+    OpAmp,
+    Resistor,
+    VoltageSource,
+)
+from .nonideal import KINDS, NonIdeal, SinglePole
+from .symbols import LAPLACE, OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
 
 if TYPE_CHECKING:
+    from ..analyses.noise import NoiseResult
     from ..analyses.result import Result
 
 __all__ = ["GROUND", "Circuit", "to_exact"]
@@ -133,10 +142,16 @@ class Circuit:
         self._add(Resistor(name, na, nb, _positive_value(value, name, "resistor")))
 
     def capacitor(self, name: str, a: str, b: str, value: Any = None) -> None:
-        """Add a capacitor; it is an open circuit in the DC analyses."""
+        """Add a capacitor: open at DC, admittance ``s·C`` in the s domain."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
         self._add(Capacitor(name, na, nb, _positive_value(value, name, "capacitor")))
+
+    def inductor(self, name: str, a: str, b: str, value: Any = None) -> None:
+        """Add an inductor: a wire at DC, impedance ``s·L`` in the s domain."""
+        name = self._new_name(name)
+        na, nb = self._nodes(name, a, b)
+        self._add(Inductor(name, na, nb, _positive_value(value, name, "inductor")))
 
     def voltage_source(self, name: str, plus: str, minus: str, value: Any = None) -> None:
         """Add a signal voltage source, ``V(plus) - V(minus) = value``."""
@@ -162,6 +177,7 @@ class Circuit:
         bias: bool = True,
         cmrr: bool = False,
         psrr: bool = False,
+        noise: bool = True,
         extra: Iterable[NonIdeal] = (),
     ) -> None:
         """Add an op-amp.
@@ -172,12 +188,18 @@ class Circuit:
             Element name, e.g. ``"U1"``; its symbols are ``U1.Vos`` and so on.
         plus, minus, out : str
             Nodes of the non-inverting input, inverting input and output.
-        gain : "ideal", "finite", number or expression
+        gain : "ideal", "finite", "pole", number or expression
             ``"ideal"``: a nullor. ``"finite"``: open-loop gain symbol ``U1.A``.
-            Anything else: that open-loop gain.
+            ``"pole"``: the single-pole model ``U1.A0/(1 + s·U1.A0/(2π·U1.GBW))``
+            (:class:`~opsym.SinglePole`; ``U1.A0`` at DC). Anything else: that
+            open-loop gain, which may contain the Laplace variable ``s``.
         offset, bias, cmrr, psrr : bool
             Which error sources it carries: ``Vos``; ``Ib+``/``Ib-``;
             ``Vcm/CMRR``; ``dVs/PSRR``.
+        noise : bool
+            Whether it carries voltage noise ``U1.en`` and current noise
+            ``U1.in+``/``U1.in-``. They enter only :meth:`noise`, never the DC
+            error terms.
         extra : iterable of NonIdeal
             Further non-ideal sources of your own kinds.
         """
@@ -191,6 +213,8 @@ class Circuit:
             a = None
         elif isinstance(gain, str) and gain == "finite":
             a = opamp_symbol(name, "A")
+        elif isinstance(gain, str) and gain == "pole":
+            a = SinglePole().gain(name)
         elif gain is None:
             raise InvalidValueError(
                 f"op-amp {name}: gain=None is ambiguous; write gain='ideal' or gain='finite'"
@@ -200,9 +224,11 @@ class Circuit:
                 a = _positive_value(gain, name + ".A", "op-amp gain")
             except ValueSyntaxError as err:
                 raise InvalidValueError(
-                    f"op-amp {name}: gain {gain!r} is not 'ideal', 'finite' or a number ({err})"
+                    f"op-amp {name}: gain {gain!r} is not 'ideal', 'finite', 'pole' or a number "
+                    f"({err})"
                 ) from None
         wanted = [("offset", offset), ("bias", bias), ("cmrr", cmrr), ("psrr", psrr)]
+        wanted += [("vnoise", noise), ("inoise", noise)]
         kinds: list[NonIdeal] = [KINDS[k]() for k, on in wanted if on]
         for item in extra:
             if not isinstance(item, NonIdeal):
@@ -259,8 +285,9 @@ class Circuit:
 
         ``"R1"`` gives the component symbol (even if R1 has a numeric value);
         ``"U1.Vos"``, ``"U1.Ib+"``, ``"U1.Ib-"``, ``"U1.Ib"``, ``"U1.Ios"``,
-        ``"U1.A"``, ``"U1.CMRR"``, ``"U1.Vcm"``, ``"U1.PSRR"``, ``"U1.dVs"`` the
-        op-amp's own.
+        ``"U1.A"``, ``"U1.CMRR"``, ``"U1.Vcm"``, ``"U1.PSRR"``, ``"U1.dVs"``,
+        ``"U1.A0"``, ``"U1.GBW"``, ``"U1.en"``, ``"U1.in"``… the op-amp's own;
+        ``"s"`` the Laplace variable.
 
         Examples
         --------
@@ -271,6 +298,8 @@ class Circuit:
         """
         if not isinstance(name, str):
             raise UnknownNameError(f"symbol names are text such as 'R1' or 'U1.Vos', not {name!r}")
+        if name == "s" and "s" not in self._elements:
+            return LAPLACE
         owner, dot, what = name.partition(".")
         element = self.element(owner)
         if not dot:
@@ -297,6 +326,7 @@ class Circuit:
         output: str | tuple[str, str],
         values: Mapping[Any, Any] | None = None,
         progress: Any = None,
+        domain: str = "dc",
     ) -> Result:
         """Derive the output: every source's coefficient in closed form.
 
@@ -311,10 +341,62 @@ class Circuit:
         progress : callable, optional
             Called as ``progress(done, total, what)`` during long solves. The
             library is silent without it.
+        domain : "dc" or "s"
+            ``"dc"`` (default): capacitors open, inductors shorted, ``s = 0``.
+            ``"s"``: Laplace domain; every coefficient is a transfer function
+            in ``s`` (capacitors ``1/(s·C)``, inductors ``s·L``).
+
+        Examples
+        --------
+        >>> c = Circuit("RC low-pass buffer")
+        >>> c.voltage_source("Vin", "in", "0")
+        >>> c.resistor("R1", "in", "p")
+        >>> c.capacitor("C1", "p", "0")
+        >>> c.opamp("U1", plus="p", minus="out", out="out")
+        >>> c.analyze("out", domain="s").coefficient("Vin")
+        1/(C1*R1*s + 1)
         """
         from ..analyses.derive import derive
 
-        return derive(self, output, values=values, progress=progress)
+        return derive(self, output, values=values, progress=progress, domain=domain)
+
+    def noise(
+        self,
+        output: str | tuple[str, str],
+        values: Mapping[Any, Any] | None = None,
+        temperature: Any = 25,
+        progress: Any = None,
+    ) -> NoiseResult:
+        """Noise analysis: every noise source's transfer to ``output``, in the s domain.
+
+        Sources are each resistor's thermal noise (``4kTR``, at
+        ``temperature`` in °C) and each op-amp's voltage and current noise.
+        The result evaluates output and input-referred densities, RMS over a
+        band and a noise budget once every density and value is numeric.
+
+        Parameters
+        ----------
+        output : str or (str, str)
+            Output node, or a ``(plus, minus)`` pair.
+        values : mapping, optional
+            Component values, op-amp parameters and noise densities
+            (``"U1.en"`` V/√Hz, ``"U1.in"`` A/√Hz, corners ``"U1.fce"``,
+            ``"U1.fci"`` in Hz); the rest stay symbolic.
+        temperature : number or text
+            Resistor temperature in °C (``25`` is 298.15 K).
+
+        Examples
+        --------
+        >>> c = Circuit("noisy divider")
+        >>> c.resistor("R1", "a", "0", value="10k")
+        >>> c.current_source("I1", "0", "a", value=0)
+        >>> n = c.noise("a")
+        >>> round(float(n.density(1000.0)) * 1e9, 3)  # nV/√Hz: 4kTR at 298.15 K
+        12.832
+        """
+        from ..analyses.noise import noise
+
+        return noise(self, output, values=values, temperature=temperature, progress=progress)
 
     def __repr__(self) -> str:
         return f"Circuit({self.title!r}, {len(self._elements)} elements)"

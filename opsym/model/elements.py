@@ -16,7 +16,15 @@ import sympy as sp
 
 from .nonideal import NonIdeal
 
-__all__ = ["Capacitor", "CurrentSource", "Element", "OpAmp", "Resistor", "VoltageSource"]
+__all__ = [
+    "Capacitor",
+    "CurrentSource",
+    "Element",
+    "Inductor",
+    "OpAmp",
+    "Resistor",
+    "VoltageSource",
+]
 
 
 @dataclass(frozen=True)
@@ -60,7 +68,12 @@ class Resistor(TwoTerminal):
 
 @dataclass(frozen=True)
 class Capacitor(TwoTerminal):
-    """A capacitor; ``value`` in farads. Open at DC."""
+    """A capacitor; ``value`` in farads. Open at DC, admittance ``s·C`` in the s domain."""
+
+
+@dataclass(frozen=True)
+class Inductor(TwoTerminal):
+    """An inductor; ``value`` in henries. A wire at DC, impedance ``s·L`` in the s domain."""
 
 
 @dataclass(frozen=True)
@@ -103,6 +116,7 @@ class OpAmp(Element):
 _KIND_NAMES = {
     Resistor: "resistor",
     Capacitor: "capacitor",
+    Inductor: "inductor",
     VoltageSource: "voltage source",
     CurrentSource: "current source",
     OpAmp: "op-amp",

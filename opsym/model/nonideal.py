@@ -15,6 +15,12 @@ Conventions (stated once, in ``docs/conventions.md``):
   ``+`` pin; ``Vcm`` is the common-mode voltage at the pins, a source of its own.
 * The PSRR error is ``dVs/PSRR``, where ``dVs`` is the change of the *total*
   supply span (V+ minus V-), not of one rail.
+* Noise: the voltage noise ``en`` is in series with the ``+`` pin, the current
+  noises ``in+`` and ``in-`` flow into the pins; each density is white with an
+  optional 1/f corner, ``S(f) = density²·(1 + fc/f)``. Noise kinds never enter
+  the DC error terms, only :meth:`opsym.Circuit.noise`.
+* Dynamics: :class:`SinglePole` gives the open-loop gain
+  ``A(s) = A0/(1 + s·A0/(2π·GBW))``, so ``1/A(s) = 1/A0 + s/(2π·GBW)``.
 
 Examples
 --------
@@ -35,11 +41,15 @@ from .symbols import opamp_symbol
 __all__ = [
     "BiasCurrents",
     "CommonModeRejection",
+    "CurrentNoise",
     "InputOffset",
+    "NoiseSpectrum",
     "NonIdeal",
     "PinCurrent",
     "SeriesVoltage",
+    "SinglePole",
     "SupplyRejection",
+    "VoltageNoise",
 ]
 
 
@@ -59,11 +69,27 @@ class PinCurrent:
     pin: str
 
 
+@dataclass(frozen=True)
+class NoiseSpectrum:
+    """A noise source's power density ``density²·(1 + corner/f)`` (per hertz).
+
+    ``density`` is the white level (V/√Hz or A/√Hz) and ``corner`` the 1/f
+    corner frequency in Hz (zero: white noise only); both are symbols or
+    numbers.
+    """
+
+    source: sp.Symbol
+    density: sp.Expr
+    corner: sp.Expr
+
+
 class NonIdeal(ABC):
     """Base of every non-ideal source an op-amp can carry."""
 
     #: Short key used in ``OpAmp.nonideals`` and design files.
     kind: str = ""
+    #: Noise kinds are random: they enter only the noise analysis, in power.
+    noise: bool = False
 
     @abstractmethod
     def sources(self, opamp: str) -> tuple[sp.Symbol, ...]:
@@ -75,6 +101,10 @@ class NonIdeal(ABC):
 
     def parameters(self, opamp: str) -> tuple[sp.Symbol, ...]:
         """Symbols that scale the sources (not sources themselves), e.g. CMRR."""
+        return ()
+
+    def spectra(self, opamp: str) -> tuple[NoiseSpectrum, ...]:
+        """Power densities of the sources of a noise kind (none for the others)."""
         return ()
 
     def nominal(self, opamp: str) -> dict[sp.Symbol, sp.Expr]:
@@ -146,7 +176,92 @@ class SupplyRejection(NonIdeal):
         return (SeriesVoltage(opamp_symbol(opamp, "dVs"), 1 / opamp_symbol(opamp, "PSRR")),)
 
 
+class VoltageNoise(NonIdeal):
+    """Input voltage noise ``en`` in series with the ``+`` pin, 1/f corner ``fce``."""
+
+    kind = "vnoise"
+    noise = True
+
+    def sources(self, opamp):
+        return (opamp_symbol(opamp, "en"),)
+
+    def parameters(self, opamp):
+        return (opamp_symbol(opamp, "fce"),)
+
+    def injections(self, opamp):
+        return (SeriesVoltage(opamp_symbol(opamp, "en"), sp.S.One),)
+
+    def spectra(self, opamp):
+        en = opamp_symbol(opamp, "en")
+        return (NoiseSpectrum(en, en, opamp_symbol(opamp, "fce")),)
+
+
+class CurrentNoise(NonIdeal):
+    """Input current noise into each pin, ``in+`` and ``in-`` (uncorrelated).
+
+    Both have the density ``in`` and the 1/f corner ``fci``.
+    """
+
+    kind = "inoise"
+    noise = True
+
+    def sources(self, opamp):
+        return (opamp_symbol(opamp, "in+"), opamp_symbol(opamp, "in-"))
+
+    def parameters(self, opamp):
+        return (opamp_symbol(opamp, "in"), opamp_symbol(opamp, "fci"))
+
+    def injections(self, opamp):
+        plus, minus = self.sources(opamp)
+        return (PinCurrent(plus, "plus"), PinCurrent(minus, "minus"))
+
+    def spectra(self, opamp):
+        density, corner = self.parameters(opamp)
+        return tuple(NoiseSpectrum(s, density, corner) for s in self.sources(opamp))
+
+
+class SinglePole:
+    """Op-amp dynamics: a single-pole open-loop gain from ``A0`` and ``GBW``.
+
+    ``A(s) = A0/(1 + s·A0/(2π·GBW))``: the dominant pole sits at
+    ``GBW/A0`` hertz. At DC (``s = 0``) the gain is ``A0``; as ``A0`` and
+    ``GBW`` grow without bound it becomes the ideal op-amp. Declare it with
+    ``Circuit.opamp(..., gain="pole")``.
+
+    Examples
+    --------
+    >>> SinglePole().gain("U1")
+    2*pi*U1.A0*U1.GBW/(U1.A0*s + 2*pi*U1.GBW)
+    >>> SinglePole().parameters("U1")
+    (U1.A0, U1.GBW)
+    """
+
+    kind = "pole"
+
+    def parameters(self, opamp: str) -> tuple[sp.Symbol, sp.Symbol]:
+        """The DC gain ``A0`` (V/V) and gain-bandwidth product ``GBW`` (Hz)."""
+        return opamp_symbol(opamp, "A0"), opamp_symbol(opamp, "GBW")
+
+    def gain(self, opamp: str) -> sp.Expr:
+        """The open-loop gain ``A(s)`` of op-amp ``opamp``."""
+        from .symbols import LAPLACE
+
+        a0, gbw = self.parameters(opamp)
+        return 2 * sp.pi * gbw * a0 / (2 * sp.pi * gbw + a0 * LAPLACE)
+
+    def __repr__(self) -> str:
+        return "SinglePole()"
+
+
 #: Every kind, by its key, in the order results list them.
 KINDS: dict[str, type[NonIdeal]] = {
-    cls.kind: cls for cls in (InputOffset, BiasCurrents, CommonModeRejection, SupplyRejection)
+    cls.kind: cls
+    for cls in (
+        InputOffset,
+        BiasCurrents,
+        CommonModeRejection,
+        SupplyRejection,
+        VoltageNoise,
+        CurrentNoise,
+    )
 }

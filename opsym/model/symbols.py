@@ -3,8 +3,11 @@
 A component without a numeric value is the positive symbol of its own name
 (``R1``). Op-amp parameters and error sources are named ``<op-amp>.<what>``:
 ``U1.Vos``, ``U1.Ib+``, ``U1.Ib-``, ``U1.Ib``, ``U1.Ios``, ``U1.A``,
-``U1.CMRR``, ``U1.Vcm``, ``U1.PSRR``, ``U1.dVs``. The same name always gives the
-same symbol (same assumptions), so results from different analyses combine.
+``U1.CMRR``, ``U1.Vcm``, ``U1.PSRR``, ``U1.dVs``; the single-pole gain model adds
+``U1.A0`` and ``U1.GBW``, the noise model ``U1.en``, ``U1.in+``, ``U1.in-`` (the
+densities) and their 1/f corners ``U1.fce``, ``U1.fci``. The Laplace variable is
+:data:`LAPLACE`, ``s``. The same name always gives the same symbol (same
+assumptions), so results from different analyses combine.
 
 Examples
 --------
@@ -19,7 +22,17 @@ from __future__ import annotations
 
 import sympy as sp
 
-__all__ = ["OPAMP_PARAMETERS", "component_symbol", "latex_name", "opamp_symbol"]
+__all__ = [
+    "LAPLACE",
+    "OPAMP_PARAMETERS",
+    "component_symbol",
+    "latex_name",
+    "opamp_symbol",
+    "thermal_symbol",
+]
+
+#: The Laplace variable of the ``domain="s"`` analyses (complex: ``s = j·2π·f``).
+LAPLACE = sp.Symbol("s")
 
 #: Op-amp symbol suffixes and the assumptions of each. Error sources are real
 #: with unknown sign; gain is positive; CMRR and PSRR are signed ratios (V/V).
@@ -34,6 +47,14 @@ OPAMP_PARAMETERS: dict[str, dict[str, bool]] = {
     "Vcm": {"real": True},
     "PSRR": {"real": True, "nonzero": True},
     "dVs": {"real": True},
+    "A0": {"positive": True},
+    "GBW": {"positive": True},
+    "en": {"nonnegative": True},
+    "in+": {"nonnegative": True},
+    "in-": {"nonnegative": True},
+    "in": {"nonnegative": True},
+    "fce": {"nonnegative": True},
+    "fci": {"nonnegative": True},
 }
 
 _LATEX = {
@@ -47,6 +68,14 @@ _LATEX = {
     "Vcm": r"V_{\mathrm{CM}}",
     "PSRR": r"\mathrm{PSRR}",
     "dVs": r"\Delta V_{\mathrm{S}}",
+    "A0": r"A_{0}",
+    "GBW": r"\mathrm{GBW}",
+    "en": r"e_{\mathrm{n}}",
+    "in+": r"i_{\mathrm{n+}}",
+    "in-": r"i_{\mathrm{n-}}",
+    "in": r"i_{\mathrm{n}}",
+    "fce": r"f_{\mathrm{ce}}",
+    "fci": r"f_{\mathrm{ci}}",
 }
 
 
@@ -63,6 +92,11 @@ def source_symbol(name: str) -> sp.Symbol:
 def opamp_symbol(opamp: str, what: str) -> sp.Symbol:
     """Return the symbol ``<opamp>.<what>``, e.g. ``U1.Vos``."""
     return sp.Symbol(f"{opamp}.{what}", **OPAMP_PARAMETERS[what])
+
+
+def thermal_symbol(resistor: str) -> sp.Symbol:
+    """Return ``<resistor>.en``, the thermal noise voltage in series with a resistor."""
+    return sp.Symbol(f"{resistor}.en", real=True)
 
 
 def latex_name(symbol: sp.Symbol) -> str:

@@ -5,6 +5,11 @@
   (each output is a voltage referred to ground) that close a loop;
 * op-amps without a DC feedback path from the output to the inverting input.
 
+At DC an inductor is a wire (a voltage-defined branch of zero volts) and a
+capacitor is open. In the s domain both are impedances: they carry a path, so
+an integrator or an AC-coupled input passes, and the messages say "path"
+rather than "DC path".
+
 Examples
 --------
 >>> import opsym
@@ -26,7 +31,7 @@ from collections import defaultdict
 
 from ..errors import FloatingNodeError, NoFeedbackError, SingularCircuitError
 from .circuit import GROUND, Circuit
-from .elements import OpAmp, Resistor, VoltageSource
+from .elements import Capacitor, Inductor, OpAmp, Resistor, TwoTerminal, VoltageSource
 
 __all__ = ["check_topology"]
 
@@ -52,27 +57,39 @@ class _Forest:
         return True
 
 
-def check_topology(circuit: Circuit) -> None:
-    """Raise a specific :class:`~opsym.OpsymError` if ``circuit`` cannot be solved at DC."""
-    _check_source_loops(circuit)
-    _check_floating(circuit)
-    _check_feedback(circuit)
+def check_topology(circuit: Circuit, domain: str = "dc") -> None:
+    """Raise a specific :class:`~opsym.OpsymError` if ``circuit`` cannot be solved.
+
+    ``domain`` is ``"dc"`` (the default) or ``"s"``.
+    """
+    _check_source_loops(circuit, domain)
+    _check_floating(circuit, domain)
+    _check_feedback(circuit, domain)
 
 
-def _voltage_branches(circuit: Circuit) -> list[tuple[str, str, str]]:
+def _conducting(domain: str) -> tuple[type, ...]:
+    """Element types that give a path between their nodes in ``domain``."""
+    if domain == "dc":
+        return (Resistor, VoltageSource, Inductor)
+    return (Resistor, VoltageSource, Inductor, Capacitor)
+
+
+def _voltage_branches(circuit: Circuit, domain: str) -> list[tuple[str, str, str]]:
     out = []
     for e in circuit.elements:
         if isinstance(e, VoltageSource):
             out.append((e.a, e.b, f"voltage source {e.name}"))
+        elif isinstance(e, Inductor) and domain == "dc":
+            out.append((e.a, e.b, f"inductor {e.name} (a wire at DC)"))
         elif isinstance(e, OpAmp):
             out.append((e.out, GROUND, f"output of op-amp {e.name}"))
     return out
 
 
-def _check_source_loops(circuit: Circuit) -> None:
+def _check_source_loops(circuit: Circuit, domain: str) -> None:
     forest = _Forest()
     adjacency: dict[str, list[tuple[str, str]]] = defaultdict(list)
-    for a, b, what in _voltage_branches(circuit):
+    for a, b, what in _voltage_branches(circuit, domain):
         if not forest.union(a, b):
             loop = [what, *_path(adjacency, a, b)]
             raise SingularCircuitError(
@@ -99,7 +116,9 @@ def _path(adjacency: dict[str, list[tuple[str, str]]], start: str, goal: str) ->
     return []
 
 
-def _check_floating(circuit: Circuit) -> None:
+def _check_floating(circuit: Circuit, domain: str) -> None:
+    conducting = _conducting(domain)
+    dc = "DC " if domain == "dc" else ""
     forest = _Forest()
     forest.find(GROUND)
     touches: dict[str, list[str]] = defaultdict(list)
@@ -110,7 +129,7 @@ def _check_floating(circuit: Circuit) -> None:
             touches[e.plus].append(f"op-amp {e.name} + input")
             touches[e.minus].append(f"op-amp {e.name} - input")
             forest.union(e.out, GROUND)
-        elif isinstance(e, (Resistor, VoltageSource)):
+        elif isinstance(e, TwoTerminal) and isinstance(e, conducting):
             forest.union(e.a, e.b)
         else:
             for n in e.nodes:
@@ -127,24 +146,26 @@ def _check_floating(circuit: Circuit) -> None:
         where = touches.get(nodes[0], [])
         detail = f" (it touches only: {', '.join(where)})" if where else ""
         raise FloatingNodeError(
-            f"node {nodes[0]!r} has no DC path to ground{detail}; "
+            f"node {nodes[0]!r} has no {dc}path to ground{detail}; "
             "connect it through a resistor or a source"
         )
     raise FloatingNodeError(
-        f"nodes {', '.join(repr(n) for n in nodes)} form an island with no DC path to ground "
-        "(capacitors, current sources and op-amp inputs carry no DC path); connect the island "
-        "to the rest of the circuit through a resistor or a source"
+        f"nodes {', '.join(repr(n) for n in nodes)} form an island with no {dc}path to ground "
+        f"({'capacitors, ' if dc else ''}current sources and op-amp inputs carry no {dc}path); "
+        "connect the island to the rest of the circuit through a resistor or a source"
     )
 
 
-def _check_feedback(circuit: Circuit) -> None:
+def _check_feedback(circuit: Circuit, domain: str) -> None:
+    conducting = _conducting(domain)
+    dc = "DC " if domain == "dc" else ""
     opamps = circuit.opamps
     for amp in opamps:
         if amp.minus == amp.out:
             continue
         forest = _Forest()
         for e in circuit.elements:
-            if isinstance(e, (Resistor, VoltageSource)):
+            if isinstance(e, TwoTerminal) and isinstance(e, conducting):
                 if GROUND not in (e.a, e.b):
                     forest.union(e.a, e.b)
             elif isinstance(e, OpAmp) and e is not amp:
@@ -153,7 +174,7 @@ def _check_feedback(circuit: Circuit) -> None:
                         forest.union(pin, e.out)
         if amp.minus == GROUND or forest.find(amp.minus) != forest.find(amp.out):
             raise NoFeedbackError(
-                f"op-amp {amp.name} has no DC feedback path from its output {amp.out!r} to its "
+                f"op-amp {amp.name} has no {dc}feedback path from its output {amp.out!r} to its "
                 f"- input {amp.minus!r}; add a resistor (or a wire) from the output back to the "
                 "- input, or check which pin is which"
             )

@@ -73,6 +73,7 @@ class _Plan:
     full_scale: float | None
     adc: ADC | None
     notes: tuple[str, ...]
+    signal_unit: str = "V"  # "A" when the signal is a current source
 
 
 def _by_name(symbols: Any) -> dict[str, sp.Symbol]:
@@ -103,6 +104,8 @@ def _prepare(
             )
     if adc is not None and not isinstance(adc, ADC):
         raise BudgetError("adc must be an ADC, e.g. ADC.unipolar(16, 10.0)")
+    if getattr(result, "domain", "dc") == "s":
+        result = result.at_dc()  # a budget of DC errors: the s = 0 limit
     terms = dict(result.terms)
     if any(s.name.endswith(".Ib+") for s in terms):
         result = result.with_average_bias()
@@ -127,25 +130,29 @@ def _prepare(
                 )
         given[name] = parse_quantity(raw, where=f"values[{name!r}]")
 
-    # Op-amp parameters that scale coefficients: A, CMRR, PSRR.
+    # Op-amp parameters that scale coefficients: A (or A0, the DC gain of a pole), CMRR, PSRR.
     subs: dict[sp.Symbol, Any] = {}
     infinite_gain: list[sp.Symbol] = []
     for name, sym in names.items():
         owner, dot, what = name.partition(".")
         if name in given:
             subs[sym] = sp.Float(given[name], 17)
-        elif dot and owner in opamps and what in ("A", "CMRR", "PSRR"):
+        elif dot and owner in opamps and what in ("A", "A0", "CMRR", "PSRR"):
             p = opamps[owner]
-            v = {"A": p.gain, "CMRR": p.cmrr, "PSRR": p.psrr}[what](grade)
+            v = {"A": p.gain, "A0": p.gain, "CMRR": p.cmrr, "PSRR": p.psrr}[what](grade)
             if math.isinf(v):
-                if what == "A":
+                if what in ("A", "A0"):
                     infinite_gain.append(sym)
                 else:
                     subs[sym] = sp.oo
             else:
                 subs[sym] = sp.Float(v, 17)
     if infinite_gain:
-        finite = [s for s in names.values() if s.name.endswith(".A") and s not in infinite_gain]
+        finite = [
+            s
+            for s in names.values()
+            if s.name.endswith((".A", ".A0")) and s not in infinite_gain
+        ]
         if finite:
             raise BudgetError(
                 f"{', '.join(s.name for s in infinite_gain)}: the parameter set gives no "
@@ -247,14 +254,31 @@ def _prepare(
     notes = [grade_note, WORST_CASE_RULE, RSS_RULE, *derived, *notes]
     if adc is not None:
         notes.append(f"ADC: {adc.describe()}")
+    signal_unit = _signal_unit(circuit, sig)
     if ref:
-        notes.append(f"input-referred: output / |G|, G = {ref:.6g} V/V from {sig or 'input_gain'}")
+        notes.append(
+            f"input-referred: output / |G|, G = {ref:.6g} V/{signal_unit} from "
+            f"{sig or 'input_gain'}"
+        )
     notes.append(SHORT_CAUTION)
     return _Plan(
         title or f"Error budget: {getattr(circuit, 'title', '') or 'circuit'}",
         tuple(lines), opamps, grade, sig, sig_value, gain, open_loop, tolerance,
-        ref, fs, adc, tuple(notes),
+        ref, fs, adc, tuple(notes), signal_unit,
     )  # fmt: skip
+
+
+def _signal_unit(circuit: Any, signal: str | None) -> str:
+    """``"A"`` when ``signal`` is a current source of ``circuit``, else ``"V"``."""
+    from ..model.elements import CurrentSource
+
+    if circuit is None or signal is None:
+        return "V"
+    try:
+        element = circuit.element(signal)
+    except Exception:  # not an element name (an input_gain given by hand)
+        return "V"
+    return "A" if isinstance(element, CurrentSource) else "V"
 
 
 def _circuit_knows(circuit: Any, name: str) -> bool:

@@ -142,6 +142,7 @@ class Budget:
     grade: str
     temperature: float
     notes: tuple[str, ...]
+    input_unit: str = "V"  # of the input-referred column: "A" for a current input
 
     @property
     def worst_case_input(self) -> float | None:
@@ -192,7 +193,7 @@ class Budget:
                 format_si(r.value, r.unit),
                 coef,
                 _pm(r.output, r.signed),
-                "—" if r.input is None else _pm(r.input, r.signed),
+                "—" if r.input is None else _pm(r.input, r.signed, self.input_unit),
             ]
             if fs:
                 cells.append(_num(r.ppm, r.signed))
@@ -207,7 +208,7 @@ class Budget:
         ):
             ppm, lsb = self._scaled(total)
             cells = [name, "", "", "±" + format_si(total, "V"),
-                     "—" if rti is None else "±" + format_si(rti, "V")]  # fmt: skip
+                     "—" if rti is None else "±" + format_si(rti, self.input_unit)]  # fmt: skip
             if fs:
                 cells.append(_num(ppm, False))
             if self.adc:
@@ -263,7 +264,7 @@ def _evaluate(plan: _Plan, temperature: float) -> Budget:
                 "gain: open-loop",
                 "finite open-loop gain",
                 plan.signal_value,
-                "V",
+                plan.signal_unit,
                 plan.open_loop_error,
                 plan.open_loop_error * plan.signal_value,
                 True,
@@ -271,7 +272,8 @@ def _evaluate(plan: _Plan, temperature: float) -> Budget:
         )
     if plan.tolerance is not None and plan.signal_value is not None:
         dev = _tolerance_deviation(plan, temperature)
-        raw.append(("gain: tolerance", "resistor tolerance (gain)", plan.signal_value, "V",
+        raw.append(("gain: tolerance", "resistor tolerance (gain)", plan.signal_value,
+                    plan.signal_unit,
                     dev, abs(dev * plan.signal_value), False))  # fmt: skip
     raw.sort(key=lambda r: -abs(r[5]))
     worst = float(sum(abs(r[5]) for r in raw))
@@ -294,7 +296,7 @@ def _evaluate(plan: _Plan, temperature: float) -> Budget:
                  "bias law", *notes)  # fmt: skip
     return Budget(
         plan.title, tuple(rows), worst, rss, plan.input_gain, plan.signal, plan.full_scale,
-        plan.adc, plan.grade, float(temperature), notes,
+        plan.adc, plan.grade, float(temperature), notes, plan.signal_unit,
     )  # fmt: skip
 
 

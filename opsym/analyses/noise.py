@@ -1,0 +1,437 @@
+"""Noise analysis: each noise source's transfer to the output, added in power.
+
+Every resistor carries its thermal noise voltage ``R.en`` in series, of
+density ``√(4kTR)`` (Johnson–Nyquist; ``k = 1.380649e-23 J/K`` exactly, SI
+2019). Every op-amp declared with ``noise=True`` carries its voltage noise
+``U1.en`` in series with the ``+`` pin and its current noises ``U1.in+`` and
+``U1.in-`` into the pins, each white with an optional 1/f corner. The sources
+are uncorrelated, so the output density is
+
+    e_out(f)² = Σ_k |H_k(j·2π·f)|² · S_k(f),   S_k(f) = density_k²·(1 + fc_k/f).
+
+One adjoint solve in the s domain gives every ``H_k`` (the same solve as the
+error terms), exactly. The numbers follow from those closed forms on NumPy
+frequency grids.
+
+Examples
+--------
+An inverting stage, gain −10, with an invented op-amp noise of 8 nV/√Hz:
+
+>>> import opsym
+>>> c = opsym.Circuit("inverting stage")
+>>> c.voltage_source("Vin", "in", "0")
+>>> c.resistor("R1", "in", "n", value="1k")
+>>> c.resistor("R2", "n", "out", value="10k")
+>>> c.opamp("U1", plus="0", minus="n", out="out", bias=False)
+>>> n = c.noise("out", values={"U1.en": "8n", "U1.in": "0"})
+>>> n.transfer("U1.en")
+11
+>>> round(float(n.density(1e3)) * 1e9, 2)  # √(88² + 40.58² + 12.83²) nV/√Hz
+97.75
+>>> print(n.budget(10, 10e3).to_text())  # doctest: +ELLIPSIS
+Noise budget at out, 10 Hz to 10 kHz...
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+import sympy as sp
+
+from ..equations.adjoint import solve_adjoint
+from ..equations.mna import build_equations
+from ..errors import BudgetError, InvalidValueError, UnknownNameError
+from ..model.circuit import Circuit, to_exact
+from ..model.elements import CurrentSource, Resistor
+from ..model.nonideal import NoiseSpectrum
+from ..model.symbols import LAPLACE, thermal_symbol
+from ..model.topology import check_topology
+from ..numeric.frequency import evaluator, integrate
+from .derive import coefficients_of, output_weights, resolve_values, sources_of
+from .present import transfer_form
+
+__all__ = [
+    "BOLTZMANN",
+    "PEAK_TO_PEAK_FACTOR",
+    "NoiseBudget",
+    "NoiseResult",
+    "NoiseRow",
+    "noise",
+]
+
+#: The Boltzmann constant, J/K, exact since the 2019 SI.
+BOLTZMANN = sp.Rational("1.380649e-23")
+#: Peak-to-peak over RMS for Gaussian noise: ±3.3σ, exceeded about 0.1 % of the
+#: time. Common practice, not a standard.
+PEAK_TO_PEAK_FACTOR = 6.6
+PEAK_TO_PEAK_RULE = (
+    "peak-to-peak ≈ 6.6 × RMS (Gaussian noise, exceeded about 0.1 % of the time; common practice)"
+)
+_ZERO_CELSIUS = sp.Rational("273.15")
+
+
+def kelvin(temperature: Any) -> sp.Expr:
+    """``temperature`` in °C (number or text) as exact kelvin; 25 → 298.15."""
+    t = to_exact(temperature, "temperature (°C)")
+    if not t.is_number:
+        raise InvalidValueError(f"temperature {temperature!r}: give a number of °C, e.g. 25")
+    kelvins = t + _ZERO_CELSIUS
+    if not kelvins.is_positive:
+        raise InvalidValueError(
+            f"temperature {temperature!r} °C is at or below absolute zero; give °C, e.g. 25"
+        )
+    return kelvins
+
+
+@dataclass(frozen=True)
+class NoiseSource:
+    """One noise source: its name, what it is, its spectrum and its transfer ``H(s)``."""
+
+    name: str
+    owner: str
+    what: str
+    unit: str
+    spectrum: NoiseSpectrum
+    transfer: sp.Expr
+
+
+def noise(
+    circuit: Circuit,
+    output: Any,
+    values: Mapping[Any, Any] | None = None,
+    temperature: Any = 25,
+    progress: Any = None,
+) -> NoiseResult:
+    """Build the :class:`NoiseResult` of ``circuit`` at ``output`` (see the module)."""
+    check_topology(circuit, "s")
+    t_kelvin = kelvin(temperature)
+    fixed = resolve_values(circuit, values)
+    eqs = build_equations(circuit, fixed, domain="s", thermal=True)
+    weights, label = output_weights(circuit, output, eqs.index)
+    z = solve_adjoint(eqs, weights, progress=progress)
+    signals = [i for i in sources_of(circuit) if i.kind == "signal"]
+    noisy = sources_of(circuit, noise=True)
+    found = coefficients_of(eqs, z, [*signals, *noisy])
+    sources: list[NoiseSource] = []
+    for e in circuit.elements:
+        if isinstance(e, Resistor):
+            sym = thermal_symbol(e.name)
+            stamps = eqs.sources.get(sym, {})
+            h = sp.Add(*[z[r] * w for r, w in stamps.items()])
+            r_value = e.value.xreplace(fixed) if fixed else e.value
+            density = sp.sqrt(4 * BOLTZMANN * t_kelvin * r_value)
+            sources.append(
+                NoiseSource(
+                    e.name, e.name, "thermal noise √(4kTR)", "V",
+                    NoiseSpectrum(sym, density, sp.S.Zero), h,
+                )
+            )  # fmt: skip
+    for amp in circuit.opamps:
+        for kind in amp.nonideals:
+            for spectrum in kind.spectra(amp.name):
+                sym = spectrum.source
+                voltage = sym.name.endswith(".en")
+                sources.append(
+                    NoiseSource(
+                        sym.name, amp.name,
+                        "voltage noise en" if voltage else f"current noise {sym.name[-3:]}",
+                        "V" if voltage else "A", spectrum, found[sym],
+                    )
+                )  # fmt: skip
+    return NoiseResult(
+        circuit=circuit,
+        output=label,
+        sources=tuple(sources),
+        signals={i.symbol: found[i.symbol] for i in signals},
+        values=fixed,
+        temperature=t_kelvin,
+    )
+
+
+class NoiseResult:
+    """Every noise source's transfer to one output, and the numbers that follow.
+
+    Build it with :meth:`opsym.Circuit.noise`. Frequencies are in hertz and
+    may be NumPy arrays; densities are in V/√Hz at the output (A/√Hz or V/√Hz
+    at the input, as the signal source is). Corners not given are zero (white
+    noise only); densities not given must be supplied with :meth:`subs`.
+    """
+
+    def __init__(
+        self,
+        circuit: Circuit,
+        output: Any,
+        sources: tuple[NoiseSource, ...],
+        signals: Mapping[sp.Symbol, sp.Expr],
+        values: Mapping[sp.Symbol, sp.Expr],
+        temperature: sp.Expr,
+    ) -> None:
+        self._circuit = circuit
+        self._output = output
+        self._sources = sources
+        self._by_name = {s.name: s for s in sources}
+        self._signals = dict(signals)
+        self._values = dict(values)
+        self._temperature = temperature
+        self._compiled: dict[str, Any] = {}
+        self._readable: dict[str, sp.Expr] = {}
+
+    # -- what was derived ------------------------------------------------------------
+
+    @property
+    def circuit(self) -> Circuit:
+        """The circuit this result was derived from."""
+        return self._circuit
+
+    @property
+    def output(self) -> Any:
+        """The output node, or the (plus, minus) pair."""
+        return self._output
+
+    @property
+    def temperature(self) -> float:
+        """The resistors' temperature, in kelvin."""
+        return float(self._temperature)
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        """The noise sources: resistor names, then ``U1.en``, ``U1.in+``, ``U1.in-``…"""
+        return tuple(s.name for s in self._sources)
+
+    def source(self, name: str) -> NoiseSource:
+        """The :class:`NoiseSource` called ``name`` (``"R1"``, ``"U1.en"``…)."""
+        try:
+            return self._by_name[name]
+        except KeyError:
+            raise UnknownNameError(
+                f"no noise source named {name!r}; this result has {', '.join(self.names)}"
+            ) from None
+
+    def transfer(self, name: str) -> sp.Expr:
+        """``H(s)`` from noise source ``name`` to the output (V/V, or V/A for currents).
+
+        A resistor's transfer is from its series thermal noise voltage.
+        """
+        if name not in self._readable:
+            expr = self._substituted(self.source(name).transfer)
+            self._readable[name] = transfer_form(expr, LAPLACE)
+        return self._readable[name]
+
+    def signal_transfer(self, signal: str | None = None) -> sp.Expr:
+        """``H(s)`` from a signal source to the output."""
+        sym = self._signal(signal)
+        return transfer_form(self._substituted(self._signals[sym]), LAPLACE)
+
+    def spectrum(self, name: str) -> NoiseSpectrum:
+        """Density and 1/f corner of ``name``, with the values given so far."""
+        sp_ = self.source(name).spectrum
+        return NoiseSpectrum(
+            sp_.source, self._substituted(sp_.density), self._substituted(sp_.corner)
+        )
+
+    # -- new results ----------------------------------------------------------------
+
+    def subs(self, mapping: Mapping[Any, Any]) -> NoiseResult:
+        """The same result with more values (names or symbols as keys).
+
+        Examples
+        --------
+        >>> import opsym
+        >>> c = opsym.Circuit()
+        >>> c.resistor("R1", "a", "0")
+        >>> c.current_source("I1", "0", "a", value=0)
+        >>> n = c.noise("a").subs({"R1": "1k"})
+        >>> round(float(n.density(10.0)) * 1e9, 4)  # case 13: 4.0578 nV/√Hz
+        4.0578
+        """
+        extra = resolve_values(self._circuit, mapping)
+        return NoiseResult(
+            self._circuit, self._output, self._sources, self._signals,
+            {**self._values, **extra}, self._temperature,
+        )  # fmt: skip
+
+    # -- numbers -----------------------------------------------------------------------
+
+    def contribution(self, name: str, f: Any) -> np.ndarray:
+        """Output noise density (V/√Hz) due to source ``name`` alone, at ``f``."""
+        h, density, corner = self._numeric(name)
+        freq = np.asarray(f, dtype=float)
+        shape = np.sqrt(1 + corner / freq) if corner else np.ones_like(freq)
+        return np.abs(h(freq)) * density * shape
+
+    def contributions(self, f: Any) -> dict[str, np.ndarray]:
+        """``{name: output density}`` for every source, at ``f``."""
+        return {name: self.contribution(name, f) for name in self.names}
+
+    def density(self, f: Any) -> np.ndarray:
+        """Total output noise density, V/√Hz: the root-sum-square of the contributions."""
+        parts = self.contributions(f)
+        return np.sqrt(sum(p**2 for p in parts.values()))
+
+    def gain(self, f: Any, signal: str | None = None) -> np.ndarray:
+        """``|H|`` of the signal path at ``f``."""
+        sym = self._signal(signal)
+        h = self._evaluator(f"signal {sym}", self._signals[sym])
+        return np.abs(h(np.asarray(f, dtype=float)))
+
+    def input_density(self, f: Any, signal: str | None = None) -> np.ndarray:
+        """Input-referred noise density: the output density over the signal gain."""
+        g = self.gain(f, signal)
+        if np.any(g == 0):
+            raise BudgetError("the signal gain is zero at some frequency; cannot refer to input")
+        return self.density(f) / g
+
+    def rms(self, f_low: float, f_high: float, name: str | None = None) -> float:
+        """RMS output noise over ``f_low``–``f_high`` Hz (``f_high`` may be ``inf``).
+
+        ``name`` gives one source's part; otherwise the total.
+        """
+        self._check_band(f_low, name)
+        if name is not None:
+            return math.sqrt(integrate(lambda f: self.contribution(name, f) ** 2, f_low, f_high))
+        return math.sqrt(integrate(lambda f: self.density(f) ** 2, f_low, f_high))
+
+    def input_rms(self, f_low: float, f_high: float, signal: str | None = None) -> float:
+        """RMS of the input-referred density over the band."""
+        self._check_band(f_low, None)
+        return math.sqrt(integrate(lambda f: self.input_density(f, signal) ** 2, f_low, f_high))
+
+    def budget(self, f_low: float, f_high: float, signal: str | None = None) -> NoiseBudget:
+        """Each source's RMS over the band and its share of the total noise power."""
+        parts = {name: self.rms(f_low, f_high, name) for name in self.names}
+        total = math.sqrt(sum(v**2 for v in parts.values()))
+        rows = tuple(
+            NoiseRow(
+                name=n,
+                what=f"{self.source(n).what} of {self.source(n).owner}",
+                rms=v,
+                share=(v**2 / total**2) if total > 0 else 0.0,
+            )
+            for n, v in sorted(parts.items(), key=lambda kv: -kv[1])
+        )
+        input_rms, input_unit = None, "V"
+        if self._signals:
+            try:
+                input_rms = self.input_rms(f_low, f_high, signal)
+                source = self._circuit.element(self._signal(signal).name)
+                input_unit = "A" if isinstance(source, CurrentSource) else "V"
+            except (BudgetError, UnknownNameError, InvalidValueError):
+                # No single signal, a zero gain somewhere, or an input-referred density
+                # that does not fall off (f_high = ∞): the budget has no input row.
+                input_rms = None
+        return NoiseBudget(
+            output=self._output if isinstance(self._output, str) else "-".join(self._output),
+            f_low=float(f_low),
+            f_high=float(f_high),
+            temperature=float(self._temperature),
+            rows=rows,
+            total=total,
+            input_rms=input_rms,
+            input_unit=input_unit,
+        )
+
+    def __repr__(self) -> str:
+        out = self._output if isinstance(self._output, str) else "-".join(self._output)
+        return f"<NoiseResult: {out} of {self._circuit.title!r}, {len(self._sources)} sources>"
+
+    # -- helpers ---------------------------------------------------------------------
+
+    def _check_band(self, f_low: float, name: str | None) -> None:
+        if f_low > 0:
+            return
+        for n in [name] if name is not None else self.names:
+            if self._numeric(n)[2] > 0:
+                raise InvalidValueError(
+                    f"band from {f_low:g} Hz: the 1/f noise of {n} diverges at 0 Hz; "
+                    "give f_low > 0 (0.1 Hz is the usual start of a 0.1–10 Hz band)"
+                )
+
+    def _substituted(self, expr: sp.Expr) -> sp.Expr:
+        return expr.xreplace(self._values) if self._values else expr
+
+    def _numeric(self, name: str) -> tuple[Any, float, float]:
+        if name not in self._compiled:
+            src = self.source(name)
+            h = self._evaluator(f"the transfer from {name}", src.transfer)
+            density = self._number(self._substituted(src.spectrum.density), f"{name} density")
+            corner_expr = self._substituted(src.spectrum.corner)
+            corner = 0.0 if corner_expr.free_symbols else self._number(corner_expr, "")
+            self._compiled[name] = (h, density, corner)
+        return self._compiled[name]
+
+    def _evaluator(self, what: str, expr: sp.Expr):
+        return evaluator(self._substituted(expr), what)
+
+    def _number(self, expr: sp.Expr, what: str) -> float:
+        if expr.free_symbols:
+            names = ", ".join(sorted(str(x) for x in expr.free_symbols))
+            raise BudgetError(
+                f"the {what} needs values for {names}; give them in values= "
+                "(e.g. {'U1.en': '10n', 'U1.in': '1p'}) or with NoiseResult.subs"
+            )
+        return float(expr)
+
+    def _signal(self, signal: str | None) -> sp.Symbol:
+        if signal is not None:
+            sym = self._circuit.symbol(signal)
+            if sym not in self._signals:
+                raise UnknownNameError(f"{signal!r} is not a signal source of this circuit")
+            return sym
+        if len(self._signals) != 1:
+            names = ", ".join(map(str, self._signals)) or "none"
+            raise UnknownNameError(
+                f"this circuit has {len(self._signals)} signal sources ({names}); "
+                "name the one you mean with signal="
+            )
+        return next(iter(self._signals))
+
+
+@dataclass(frozen=True)
+class NoiseRow:
+    """One line of a noise budget: RMS at the output over the band, share of power."""
+
+    name: str
+    what: str
+    rms: float
+    share: float
+
+
+@dataclass(frozen=True)
+class NoiseBudget:
+    """RMS noise over a band, source by source, with the total and a p-p estimate."""
+
+    output: str
+    f_low: float
+    f_high: float
+    temperature: float
+    rows: tuple[NoiseRow, ...]
+    total: float
+    input_rms: float | None
+    input_unit: str = "V"
+
+    @property
+    def peak_to_peak(self) -> float:
+        """``6.6 × total RMS``: see :data:`PEAK_TO_PEAK_RULE` (common practice)."""
+        return PEAK_TO_PEAK_FACTOR * self.total
+
+    def table(self):
+        """The budget as an :class:`opsym.output.tables.Table`."""
+        from ..output.noise import noise_table
+
+        return noise_table(self)
+
+    def to_markdown(self) -> str:
+        """GitHub-flavoured Markdown table with the totals and rules below."""
+        return self.table().to_markdown()
+
+    def to_latex(self, *, float_env: bool = True) -> str:
+        """LaTeX booktabs table (``float_env=False``: the tabular alone)."""
+        return self.table().to_latex(float_env=float_env)
+
+    def to_text(self) -> str:
+        """Plain-text table for the terminal."""
+        return self.table().to_text()
