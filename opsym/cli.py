@@ -4,7 +4,8 @@ Commands::
 
     opsym demo                      a worked example in an invented scenario
     opsym check FILE...             read design files and report what is wrong
-    opsym report FILE [options]     every term, the conditions and the budget
+    opsym report FILE [options]     every term, the conditions, the budget, the
+                                    frequency response and the noise budget
     opsym rewrite FILE              print the design file as opsym writes it
 
 ``opsym report`` prints its summary on standard output; ``--latex``,
@@ -67,7 +68,8 @@ def _parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="opsym",
         description="Closed-form error terms of op-amp circuits: offset, bias currents, "
-        "finite gain, CMRR and PSRR, with null conditions and error budgets.",
+        "finite gain, CMRR and PSRR, with null conditions and error budgets; frequency "
+        "response and noise.",
         epilog="Design files are described in docs/design-files.md. "
         "Run 'opsym COMMAND --help' for each command's options.",
     )
@@ -91,8 +93,8 @@ def _parser() -> argparse.ArgumentParser:
     report = commands.add_parser(
         "report", help="derive a design file and print every term, condition and budget",
         description="Derive the output of a design file in closed form, run the analyses it "
-        "asks for, print a summary and optionally write design notes and figures. Nothing is "
-        "written unless every analysis succeeds.",
+        "asks for (budget, tolerance, [response], [noise]), print a summary and optionally "
+        "write design notes and figures. Nothing is written unless every analysis succeeds.",
     )  # fmt: skip
     report.add_argument("file", metavar="FILE", help="design file (.toml)")
     report.add_argument("--latex", metavar="PATH", type=Path, help="write a LaTeX design note")
@@ -105,7 +107,8 @@ def _parser() -> argparse.ArgumentParser:
     )
     report.add_argument(
         "--figures", metavar="DIR", type=Path,
-        help="write figures (PNG) into DIR: contributions, temperature, Monte Carlo",
+        help="write figures (PNG) into DIR: contributions, temperature, Monte Carlo, Bode, "
+        "gain error, noise density",
     )  # fmt: skip
     report.add_argument(
         "--quiet", "-q", action="store_true", help="no summary on standard output, no progress"
@@ -191,6 +194,7 @@ def _figure_plans(study: Any, directory: Path) -> list[tuple[Path, str, Any]]:
     from .output.figures import contribution_chart, monte_carlo_histogram, temperature_chart
 
     plans: list[tuple[Path, str, Any]] = []
+    plans += _frequency_plans(study, directory)
     if study.budget is not None:
         plans.append((directory / "contributions.png", "Error contributions",
                       lambda p: contribution_chart(study.budget, p)))  # fmt: skip
@@ -204,9 +208,59 @@ def _figure_plans(study: Any, directory: Path) -> list[tuple[Path, str, Any]]:
     if not plans:
         raise _OutputError(
             "--figures: this design has nothing to draw; give op-amp parameter sets "
-            "(for a budget) or a [tolerance] study"
+            "(for a budget), a [tolerance] study, a [response] or a [noise] table"
         )
     return plans
+
+
+def _frequency_plans(study: Any, directory: Path) -> list[tuple[Path, str, Any]]:
+    """Bode, gain-error and noise-density figures, where this opsym can draw them."""
+    from .output import figures
+
+    plans: list[tuple[Path, str, Any]] = []
+    r, n = study.response, study.noise
+    wanted = []
+    if r is not None:
+        what = f"V({r.output}) from {r.signal}"
+        wanted += [
+            ("bode_chart", "bode.png", f"Bode plot: {what}",
+             lambda p, f: f(r.result, p, source=r.signal, f_start=r.f_start, f_stop=r.f_stop,
+                            ideal=True)),
+            ("gain_error_chart", "gain-error.png", f"Gain error: {what}",
+             lambda p, f: f(r.result, p, signal=r.signal, f_start=r.f_start, f_stop=r.f_stop)),
+        ]  # fmt: skip
+    if n is not None:
+        low, high = _noise_plot_band(study)
+        wanted.append(
+            ("noise_density_chart", "noise-density.png",
+             f"Output noise density at {n.budget.output}",
+             lambda p, f: f(n.result, p, f_start=low, f_stop=high)),
+        )  # fmt: skip
+    for name, file, caption, draw in wanted:
+        fn = getattr(figures, name, None)
+        if fn is None:  # an opsym without that figure: say so, draw the rest
+            _fail_note(f"--figures: this opsym cannot draw {file} (no {name}); skipped")
+            continue
+        plans.append((directory / file, caption, lambda p, d=draw, f=fn: d(p, f)))
+    return plans
+
+
+def _noise_plot_band(study: Any) -> tuple[float, float]:
+    """A finite plotting range for the noise band (which may start at 0 or run to ∞)."""
+    import math
+
+    n = study.noise
+    high = n.f_stop
+    if math.isinf(high):
+        high = study.response.f_stop if study.response is not None else 1e7
+    low = n.f_start if n.f_start > 0 else min(1.0, high * 1e-6)
+    if high <= low:
+        high = low * 1e6
+    return low, high
+
+
+def _fail_note(message: str) -> None:
+    print(f"opsym: note: {message}", file=sys.stderr)
 
 
 def _write_all(plans: list[tuple[Path, str, Any]], files: dict[Path, str]) -> None:
@@ -239,11 +293,85 @@ def _note(study: Any, fmt: str, figures: list[tuple[Path, str]], path: Path, sta
 
     here = path.parent.resolve()
     figs = [(Path(os.path.relpath(p.resolve(), here)), caption) for p, caption in figures]
-    return design_note(
+    note = design_note(
         study.result, study.budget, title=None, conditions=study.conditions,
         choices=study.choices, studies=study.studies, sweep=study.sweep, figures=figs,
         fmt=fmt, standalone=standalone,
     )  # fmt: skip
+    return _with_sections(note, _frequency_sections(study, fmt), fmt)
+
+
+def _with_sections(note: str, sections: str, fmt: str) -> str:
+    """Put ``sections`` into the note before its caution, which stays last."""
+    if not sections:
+        return note
+    marker = "### Caution" if fmt == "markdown" else r"\subsection*{Caution}"
+    at = note.rfind(marker)
+    if at < 0:  # pragma: no cover - every note ends with the caution
+        end = note.rfind(r"\end{document}")
+        at = end if end >= 0 else len(note)
+    return note[:at] + sections + "\n" + note[at:]
+
+
+def _frequency_sections(study: Any, fmt: str) -> str:
+    """The response and noise sections of a design note (Markdown or LaTeX)."""
+    from .output import latex as formulas
+
+    parts: list[str] = []
+    r, n = study.response, study.noise
+    if r is not None:
+        parts += _section("Frequency response", _transfer_equation(r, formulas), r.tables(), fmt)
+    if n is not None:
+        noise_latex = getattr(formulas, "noise_latex", None)
+        equation = str(noise_latex(n.result)) if noise_latex is not None else None
+        parts += _section("Noise", equation, [n.budget.table()], fmt, n.notes())
+    return "\n".join(parts)
+
+
+def _transfer_equation(r: Any, formulas: Any) -> str:
+    transfer_latex = getattr(formulas, "transfer_latex", None)
+    if transfer_latex is not None:
+        return str(transfer_latex(r.symbolic, source=r.signal))
+    import sympy as sp
+
+    names = r.symbolic.symbol_latex() if hasattr(r.symbolic, "symbol_latex") else {}
+    coeff = r.symbolic.coefficient(r.signal)
+    return "H(s) = " + sp.latex(coeff, symbol_names=dict(names))
+
+
+def _section(
+    title: str, equation: str | None, tables: list[Any], fmt: str, notes: Sequence[str] = ()
+) -> list[str]:
+    from .output.tables import latex_text
+
+    if fmt == "markdown":
+        out = [f"### {title}", ""]
+        if equation:
+            out += ["$$", _bare_math(equation), "$$", ""]
+        for t in tables:
+            out += [t.to_markdown(), ""]
+        out += [f"- {line}" for line in notes]
+        return [*out, ""] if notes else out
+    out = [r"\subsection*{" + latex_text(title) + "}"]
+    if equation:
+        body = _bare_math(equation)
+        out += [body] if r"\begin{" in body else [r"\[", body, r"\]"]
+    for t in tables:
+        out += [r"\begin{center}"]
+        if t.caption:
+            out += [r"\textbf{" + latex_text(t.caption) + r"}\par\smallskip"]
+        out += [t.to_latex(float_env=False), r"\end{center}"]
+    out += [r"\par{\footnotesize " + latex_text(line) + "}" for line in notes]
+    return out
+
+
+def _bare_math(text: str) -> str:
+    """An equation without display delimiters, whichever way the formatter wrote it."""
+    s = text.strip()
+    for left, right in ((r"\[", r"\]"), ("$$", "$$"), ("$", "$")):
+        if s.startswith(left) and s.endswith(right) and len(s) > len(left) + len(right):
+            return s[len(left) : -len(right)].strip()
+    return s
 
 
 def _summary(study: Any, out: TextIO) -> None:
@@ -295,12 +423,18 @@ def _summary(study: Any, out: TextIO) -> None:
     for s in study.studies:
         say()
         say(s.to_text())
+    if study.response is not None:
+        say()
+        say(study.response.to_text())
+    if study.noise is not None:
+        say()
+        say(study.noise.to_text())
 
 
 def _unit_of(element: Any) -> str:
-    return {"resistor": "Ω", "capacitor": "F", "voltage source": "V", "current source": "A"}.get(
-        element.kind, ""
-    )
+    units = {"resistor": "Ω", "capacitor": "F", "inductor": "H", "voltage source": "V",
+             "current source": "A"}  # fmt: skip
+    return units.get(element.kind, "")
 
 
 class _Progress:

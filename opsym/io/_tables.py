@@ -203,7 +203,10 @@ class Table:
                 raise self.error(key, f"{value} is not a finite value")
             return sp.Rational(repr(value))
         if isinstance(value, str):
-            return parse_value(value, where=self.where(key), names=names, unit=unit)
+            try:
+                return parse_value(value, where=self.where(key), names=names, unit=unit)
+            except ValueSyntaxError as err:  # the message already names file, table and key
+                raise DesignFileError(str(err)) from err
         raise self.error(key, f"{_shown(value)} is not a value; give a number or text '10k'")
 
     def take_nodes(self, key: str, count: int) -> tuple[str, ...]:

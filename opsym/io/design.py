@@ -21,12 +21,16 @@ if TYPE_CHECKING:
     from ..analyses.result import Result
 
 __all__ = [
+    "DEFAULT_INCLUDE",
     "ELEMENT_TABLES",
     "FORMAT",
+    "OPAMP_VALUES",
     "PARAMETER_UNITS",
     "BudgetSettings",
     "Design",
+    "NoiseSettings",
     "NullRequest",
+    "ResponseSettings",
     "SensitivityRequest",
     "ToleranceSettings",
 ]
@@ -35,13 +39,26 @@ __all__ = [
 FORMAT = 1
 
 #: Element tables, in the order they are read and written.
-ELEMENT_TABLES = ("resistors", "capacitors", "voltage-sources", "current-sources", "opamps")
+ELEMENT_TABLES = (
+    "resistors", "capacitors", "inductors", "voltage-sources", "current-sources", "opamps",
+)  # fmt: skip
+#: What an op-amp carries without ``include``: the defaults of ``Circuit.opamp``.
+DEFAULT_INCLUDE = ("offset", "bias", "vnoise", "inoise")
 #: Op-amp parameter fields and the unit of each (``None``: a plain ratio).
 PARAMETER_UNITS: dict[str, str | None] = {
     "vos_typ": "V", "vos_max": "V", "drift_typ": "V/°C", "drift_max": "V/°C",
     "ib_typ": "A", "ib_max": "A", "ios_typ": "A", "ios_max": "A",
     "a_typ": None, "a_min": None,
     "cmrr_typ_db": "dB", "cmrr_min_db": "dB", "psrr_typ_db": "dB", "psrr_min_db": "dB",
+    "gbw_typ": "Hz", "en_typ": "V/√Hz", "in_typ": "A/√Hz", "fce": "Hz", "fci": "Hz",
+}  # fmt: skip
+#: Numbers an op-amp table may give for its own symbols (``U1.Vcm`` ...), with the
+#: unit of each and the gain model or kind of error source that uses it.
+OPAMP_VALUES: dict[str, tuple[str, str]] = {
+    "Vcm": ("V", "cmrr"), "dVs": ("V", "psrr"),
+    "A0": ("ratio", "pole"), "GBW": ("Hz", "pole"),
+    "en": ("V/√Hz", "vnoise"), "fce": ("Hz", "vnoise"),
+    "in": ("A/√Hz", "inoise"), "fci": ("Hz", "inoise"),
 }  # fmt: skip
 
 
@@ -93,6 +110,32 @@ class ToleranceSettings:
 
 
 @dataclass(frozen=True)
+class ResponseSettings:
+    """The ``[response]`` table: a frequency response of the output to ``signal``.
+
+    Frequencies are in hertz; ``None`` means "not given" (the study uses its
+    defaults: 10 Hz to 10 MHz, one point per decade). ``at`` lists the
+    frequencies where gain and gain error are reported.
+    """
+
+    signal: str | None = None
+    f_start: sp.Expr | None = None
+    f_stop: sp.Expr | None = None
+    points_per_decade: int | None = None
+    at: tuple[sp.Expr, ...] = ()
+
+
+@dataclass(frozen=True)
+class NoiseSettings:
+    """The ``[noise]`` table: the band (Hz; ``f_stop`` may be ``inf``) and temperature (°C)."""
+
+    f_start: sp.Expr
+    f_stop: sp.Expr
+    temperature: float | None = None
+    signal: str | None = None
+
+
+@dataclass(frozen=True)
 class Design:
     """A loaded design file: the circuit, its numbers and the analyses wanted.
 
@@ -114,7 +157,7 @@ class Design:
         Tolerance and TCR of each resistor that has them (own or the default).
     resistor_default : ResistorParams or None
         The grade ``[tolerance] resistors`` gives every resistor without its own.
-    nulls, sensitivity, budget, tolerance
+    nulls, sensitivity, budget, tolerance, response, noise
         The analyses asked for (``None``: not asked).
     average_bias : bool
         Report bias terms as ``Ib``/``Ios`` (true) or ``Ib+``/``Ib-``.
@@ -141,6 +184,8 @@ class Design:
     source: str = "<text>"
     resistor_default: ResistorParams | None = None
     series: str = "E96"
+    response: ResponseSettings | None = None
+    noise: NoiseSettings | None = None
 
     def __post_init__(self) -> None:
         for name in ("values", "opamps", "resistors"):
@@ -151,9 +196,15 @@ class Design:
         """The circuit's title."""
         return self.circuit.title
 
-    def analyze(self, progress: Callable[[int, int, str], Any] | None = None) -> Result:
-        """Derive the output in closed form (``Ib±`` as ``Ib``/``Ios`` if ``average_bias``)."""
-        result = self.circuit.analyze(self.output, progress=progress)
+    def analyze(
+        self, progress: Callable[[int, int, str], Any] | None = None, domain: str = "dc"
+    ) -> Result:
+        """Derive the output in closed form (``Ib±`` as ``Ib``/``Ios`` if ``average_bias``).
+
+        ``domain="s"`` gives transfer functions in the Laplace variable ``s``
+        (see :meth:`opsym.Circuit.analyze`).
+        """
+        result = self.circuit.analyze(self.output, progress=progress, domain=domain)
         return result.with_average_bias() if self.average_bias else result
 
     def numeric_values(self) -> dict[str, float]:

@@ -45,22 +45,22 @@ import sympy as sp
 
 from ..errors import DesignFileError, InvalidValueError, OpsymError
 from ..model.circuit import Circuit
-from ..model.elements import CurrentSource, Resistor, VoltageSource
-from ..model.nonideal import KINDS
+from ..model.elements import CurrentSource, VoltageSource
+from ..model.nonideal import KINDS, SinglePole
 from ..model.symbols import OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
 from ..model.topology import check_topology
 from ..numeric.eseries import SERIES
 from ..numeric.params import OpAmpParams, ResistorParams, opamp_parameters, resistor_parameters
+from ._settings import SettingsReader
 from ._tables import Locator, Table
 from .design import (
+    DEFAULT_INCLUDE,
     ELEMENT_TABLES,
     FORMAT,
+    OPAMP_VALUES,
     PARAMETER_UNITS,
-    BudgetSettings,
     Design,
     NullRequest,
-    SensitivityRequest,
-    ToleranceSettings,
 )
 
 if sys.version_info >= (3, 11):
@@ -72,8 +72,7 @@ __all__ = ["load_design", "parse_design"]  # the Design record lives in .design
 
 _MAX_BYTES = 1_000_000
 _TOP_KEYS = ("format", "title", "notes", "output", "input", *ELEMENT_TABLES)
-_SETTING_TABLES = ("analysis", "budget", "tolerance")
-_DEFAULT_INCLUDE = ("offset", "bias")
+_SETTING_TABLES = ("analysis", "budget", "tolerance", "response", "noise")
 
 
 def load_design(path: str | os.PathLike[str]) -> Design:
@@ -114,7 +113,7 @@ def parse_design(text: str, *, filename: str = "<text>") -> Design:
     return _Reader(data, Locator(filename, text)).read()
 
 
-class _Reader:
+class _Reader(SettingsReader):
     def __init__(self, data: dict[str, Any], locator: Locator) -> None:
         self.top = Table(data, (), locator)
         self.file = locator.filename
@@ -175,6 +174,11 @@ class _Reader:
             analysis.finish()
         budget = self.budget(settings["budget"]) if settings["budget"] else None
         default, tolerance = self.tolerance(settings["tolerance"], circuit)
+        response = noise = None
+        if settings["response"] is not None:
+            response = self.response(settings["response"], signal)
+        if settings["noise"] is not None:
+            noise = self.noise(settings["noise"], circuit, signal)
         try:
             check_topology(circuit)
         except OpsymError as err:
@@ -182,6 +186,7 @@ class _Reader:
         return Design(
             circuit, output, self.values, signal, self.opamps, self.resistors, nulls,
             sensitivity, budget, tolerance, average, notes, self.file, default, series,
+            response=response, noise=noise,
         )  # fmt: skip
 
     # -- elements ----------------------------------------------------------------------
@@ -218,7 +223,8 @@ class _Reader:
         self, circuit: Circuit, kind: str, name: str, t: Table,
         equations: dict[str, tuple[Table, str]],
     ) -> None:  # fmt: skip
-        unit = {"resistors": "Ω", "capacitors": "F", "voltage-sources": "V"}.get(kind, "A")
+        unit = {"resistors": "Ω", "capacitors": "F", "inductors": "H",
+                "voltage-sources": "V"}.get(kind, "A")  # fmt: skip
         if kind == "voltage-sources":
             a, b = t.take_node("plus"), t.take_node("minus")
         elif kind == "current-sources":
@@ -239,7 +245,7 @@ class _Reader:
             self.resistor_grade(name, t)
         element_value = equals if equals is not None else (None if symbolic else value)
         if value is not None and symbolic:
-            if kind in ("resistors", "capacitors") and not value.is_positive:
+            if kind in ("resistors", "capacitors", "inductors") and not value.is_positive:
                 problem = InvalidValueError(
                     f"{kind[:-1]} {name}: value {value} is not positive; give a value > 0"
                 )
@@ -247,7 +253,8 @@ class _Reader:
             self.values[name] = value
         add = {
             "resistors": circuit.resistor, "capacitors": circuit.capacitor,
-            "voltage-sources": circuit.voltage_source, "current-sources": circuit.current_source,
+            "inductors": circuit.inductor, "voltage-sources": circuit.voltage_source,
+            "current-sources": circuit.current_source,
         }[kind]  # fmt: skip
         add(name, a, b, value=element_value)
 
@@ -272,11 +279,11 @@ class _Reader:
         gain: Any = "ideal"
         if t.has("gain"):
             raw = t.raw("gain")
-            if raw in ("ideal", "finite"):
+            if raw in ("ideal", "finite", "pole"):
                 gain = raw
             else:
                 gain = t.value_of(raw, "gain", unit="ratio", names=self.names)
-        include = t.take_strings("include") if t.has("include") else list(_DEFAULT_INCLUDE)
+        include = t.take_strings("include") if t.has("include") else list(DEFAULT_INCLUDE)
         for kind in include:
             if kind not in KINDS:
                 raise t.error(
@@ -284,18 +291,48 @@ class _Reader:
                 )
         if len(set(include)) != len(include):
             raise t.error("include", "a non-ideality is listed twice")
-        for what in ("Vcm", "dVs"):
-            value = t.take_value(what, unit="V")
-            if value is not None:
-                self.values[f"{name}.{what}"] = value
+        self.opamp_values(name, t, gain, include)
         if t.has("parameters"):
             self.opamps[name] = self.parameter_set(name, t)
         flagged = ("offset", "bias", "cmrr", "psrr")  # Circuit.opamp's own switches
         circuit.opamp(
             name, plus=plus, minus=minus, out=out, gain=gain, offset="offset" in include,
             bias="bias" in include, cmrr="cmrr" in include, psrr="psrr" in include,
-            extra=[KINDS[k]() for k in include if k not in flagged],
+            noise=False, extra=[KINDS[k]() for k in include if k not in flagged],
         )  # fmt: skip
+
+    def opamp_values(self, name: str, t: Table, gain: Any, include: list[str]) -> None:
+        """``Vcm``, ``dVs``, ``A0``, ``GBW``, ``en``, ``fce``, ``in``, ``fci``: numbers only."""
+        own = set(SinglePole().parameters(name))
+        pole = gain == "pole" or (isinstance(gain, sp.Expr) and bool(gain.free_symbols & own))
+        for what, (unit, needs) in OPAMP_VALUES.items():
+            value = t.take_value(what, unit=unit)
+            if value is None:
+                continue
+            if what in ("Vcm", "dVs"):  # read as they always were, whatever is included
+                self.values[f"{name}.{what}"] = value
+                continue
+            if not value.is_number:  # pragma: no cover - names are not allowed here
+                raise t.error(what, "give a number")
+            if what in ("A0", "GBW"):
+                if not value.is_positive:
+                    raise t.error(what, f"{what} = {value} must be positive; give e.g. "
+                                  + ("'100 dB'" if what == "A0" else "'1 MHz'"))  # fmt: skip
+                if not pole:
+                    raise t.error(
+                        what, f"{what} belongs to the single-pole gain model; set "
+                        "gain = \"pole\" or remove it"
+                    )  # fmt: skip
+            else:
+                if value.is_negative:
+                    raise t.error(what, f"{what} = {value} is negative; give a value >= 0")
+                if needs not in include:
+                    kind = "voltage" if needs == "vnoise" else "current"
+                    raise t.error(
+                        what, f"the op-amp does not carry {kind} noise; add \"{needs}\" to "
+                        f"include or remove {what}"
+                    )  # fmt: skip
+            self.values[f"{name}.{what}"] = value
 
     def parameter_set(self, name: str, t: Table) -> OpAmpParams:
         raw = t.raw("parameters")
@@ -400,104 +437,3 @@ class _Reader:
             known = ", ".join(signals) or "none"
             raise top.error("input", f"{name!r} is not a signal source; the sources are {known}")
         return name
-
-    def term_name(self, t: Table, key: str, text: str, *, gain: bool) -> str:
-        if gain and text == "gain":
-            return text
-        valid = [n for n in self.names if "." not in n and self._is_signal(n)]
-        circuit_terms = valid + [n for n in self.names if "." in n and self._is_source(n)]
-        if text not in circuit_terms:
-            some = ", ".join((["gain"] if gain else []) + circuit_terms[:12])
-            raise t.error(key, f"{text!r} is not a term of this design; use one of {some}")
-        return text
-
-    def _is_signal(self, name: str) -> bool:
-        return self.names[name].is_positive is not True  # sources are real, not positive
-
-    def _is_source(self, name: str) -> bool:
-        owner, _, what = name.partition(".")
-        kinds = self.kinds.get(owner, ())
-        needs = {"Vos": "offset", "Ib+": "bias", "Ib-": "bias", "Ib": "bias", "Ios": "bias",
-                 "Vcm": "cmrr", "dVs": "psrr"}.get(what)  # fmt: skip
-        return needs is not None and needs in kinds
-
-    def component_name(self, t: Table, key: str, text: str) -> str:
-        comps = [n for n, s in self.names.items() if "." not in n and s.is_positive]
-        if text not in comps:
-            raise t.error(key, f"{text!r} is not a component; use one of {', '.join(comps[:12])}")
-        return text
-
-    def null(self, t: Table, text: str) -> NullRequest:
-        words = text.split()
-        if len(words) != 3 or words[1] != "by":
-            raise t.error("nulls", f"{text!r} is not 'TERM by COMPONENT', e.g. 'U1.Ib by R3'")
-        return NullRequest(
-            self.term_name(t, "nulls", words[0], gain=False),
-            self.component_name(t, "nulls", words[2]),
-        )
-
-    def sensitivity(self, t: Table, circuit: Circuit) -> SensitivityRequest | None:
-        if not t.has("sensitivity-to"):
-            if t.has("sensitivity-of") or t.has("normalized"):
-                raise t.error(None, "give 'sensitivity-to', the components to vary")
-            return None
-        to = tuple(self.component_name(t, "sensitivity-to", n)
-                   for n in t.take_strings("sensitivity-to"))  # fmt: skip
-        of = tuple(self.term_name(t, "sensitivity-of", n, gain=True)
-                   for n in t.take_strings("sensitivity-of")) or ("gain",)  # fmt: skip
-        return SensitivityRequest(of, to, t.take_bool("normalized", True))
-
-    def budget(self, t: Table) -> BudgetSettings:
-        grade = t.take_str("grade", "max", choices=("max", "typical")) or "max"
-        temps: tuple[float, ...] = (25.0,)
-        if t.has("temperatures"):
-            raw = t.raw("temperatures")
-            if not isinstance(raw, list) or not raw:
-                raise t.error("temperatures", "give a list of °C, e.g. [-40, 25, 85]")
-            temps = tuple(float(t.value_of(v, "temperatures")) for v in raw)
-            if any(not -273.15 < x < 1000 for x in temps):
-                raise t.error("temperatures", "temperatures are in °C, above -273.15")
-        full_scale = t.take_value("full-scale", unit="V")
-        adc = t.sub("adc")
-        bits = reference = None
-        adc_range = "unipolar"
-        if adc is not None:
-            bits = adc.take_int("bits", None, low=1, high=32)
-            if bits is None:
-                raise adc.error(None, "the key 'bits' is missing; give e.g. bits = 16")
-            reference = adc.take_value("reference", unit="V", required=True)
-            adc_range = adc.take_str("range", "unipolar", choices=("unipolar", "bipolar")) or ""
-            adc.finish()
-        t.finish()
-        return BudgetSettings(grade, temps, full_scale, bits, reference, adc_range)
-
-    def tolerance(
-        self, t: Table | None, circuit: Circuit
-    ) -> tuple[ResistorParams | None, ToleranceSettings | None]:
-        if t is None:
-            return None, None
-        default = None
-        if t.has("resistors"):
-            raw = t.raw("resistors")
-            try:
-                if isinstance(raw, str) and any(c.isalpha() for c in raw.replace("ppm", "")):
-                    default = resistor_parameters(raw)
-                else:
-                    tol = t.value_of(raw, "resistors", unit="ratio")
-                    default = ResistorParams(float(tol), 0.0, "default tolerance")
-            except DesignFileError:
-                raise
-            except OpsymError as err:
-                raise t.wrap("resistors", err) from err
-            for e in circuit.elements:
-                if isinstance(e, Resistor) and e.name not in self.resistors:
-                    self.resistors[e.name] = default
-        study = None
-        of = tuple(self.term_name(t, "of", n, gain=True) for n in t.take_strings("of"))
-        samples = t.take_int("samples", 10000, low=0, high=10**7)
-        seed = t.take_int("seed", None, low=0, high=2**63 - 1)
-        distribution = t.take_str("distribution", "uniform", choices=("uniform", "normal"))
-        if of or t.has("samples") or t.has("seed"):
-            study = ToleranceSettings(of or ("gain",), samples or 0, seed, distribution or "")
-        t.finish()
-        return default, study

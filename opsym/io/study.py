@@ -2,8 +2,10 @@
 
 :func:`run_design` derives the output, then the null conditions (with a
 standard value for each), the sensitivities, the error budget (over the
-temperatures asked for) and the tolerance studies. It computes; presenting is
-the command line's and the design notes' job.
+temperatures asked for), the tolerance studies, and the frequency response
+and noise budget when the file asks for them (see
+:mod:`opsym.io.frequency_study`). It computes; presenting is the command
+line's and the design notes' job.
 
 Examples
 --------
@@ -48,6 +50,7 @@ from ..numeric.eseries import NullChoice, choose_for_null
 from ..numeric.temperature import TemperatureSweep, budget_over_temperature
 from ..numeric.tolerance import ToleranceStudy, tolerance_analysis
 from .design import Design
+from .frequency_study import NoiseReport, ResponseReport, run_noise, run_response
 
 __all__ = ["Study", "run_design"]
 
@@ -76,6 +79,10 @@ class Study:
     sweep : TemperatureSweep or None
         When several temperatures were asked for.
     studies : tuple of ToleranceStudy
+    response : ResponseReport or None
+        The ``[response]`` analysis (Laplace domain), if asked for.
+    noise : NoiseReport or None
+        The ``[noise]`` analysis, if asked for.
     """
 
     design: Design
@@ -87,6 +94,8 @@ class Study:
     budget: Budget | None = None
     sweep: TemperatureSweep | None = None
     studies: tuple[ToleranceStudy, ...] = ()
+    response: ResponseReport | None = None
+    noise: NoiseReport | None = None
 
 
 def run_design(design: Design, progress: Progress | None = None) -> Study:
@@ -151,14 +160,21 @@ def run_design(design: Design, progress: Progress | None = None) -> Study:
                     distribution=t.distribution,
                 )
             )
+    response = run_response(design, values, design.response) if design.response else None
+    noise = run_noise(design, values, design.noise) if design.noise else None
     return Study(
         design, result, numbers, conditions, tuple(choices), tuple(sens), budget, sweep,
-        tuple(studies),
+        tuple(studies), response, noise,
     )  # fmt: skip
 
 
 def numeric_values(design: Design) -> dict[str, float]:
-    """Nominal numbers plus each op-amp's gain, CMRR and PSRR from its parameter set."""
+    """Nominal numbers plus what each op-amp's parameter set gives that the file does not.
+
+    Gain (``A``, and ``A0`` of the single-pole model), CMRR and PSRR at the
+    budget's grade; ``GBW`` and the noise densities and corners (``en``,
+    ``in``, ``fce``, ``fci``) are typical values. Numbers in the file win.
+    """
     values = design.numeric_values()
     grade = design.budget.grade if design.budget is not None else "typical"
     for amp in design.circuit.opamps:
@@ -166,10 +182,12 @@ def numeric_values(design: Design) -> dict[str, float]:
         if params is None:
             continue
         for what, number in (
-            ("A", params.gain(grade)), ("CMRR", params.cmrr(grade)), ("PSRR", params.psrr(grade))
+            ("A", params.gain(grade)), ("A0", params.gain(grade)), ("CMRR", params.cmrr(grade)),
+            ("PSRR", params.psrr(grade)), ("GBW", params.gbw_typ), ("en", params.en_typ),
+            ("in", params.in_typ), ("fce", params.fce), ("fci", params.fci),
         ):  # fmt: skip
             name = f"{amp.name}.{what}"
-            if name not in values and number != float("inf"):
+            if name not in values and number is not None and number != float("inf"):
                 values[name] = number
     return values
 
@@ -190,7 +208,7 @@ def _term_numbers(result: Any, values: dict[str, float]) -> dict[sp.Symbol, floa
     for coeff in result.terms.values():
         for s in coeff.free_symbols:
             if s.name in values:
-                subs[s] = values[s.name]
+                subs[s] = sp.Float(values[s.name])  # a lone symbol becomes a SymPy number
     out = {}
     for source, coeff in result.terms.items():
         v = coeff.xreplace(subs)

@@ -14,10 +14,12 @@ What a value may contain
   marks the decimal point of a plain value (``2R2`` is 2.2, ``100R`` is 100).
   There is no ``meg``: write ``M``.
 * A unit after the number or its prefix, with or without a space:
-  ``Ω``/``ohm``/``ohms``, ``V``, ``A``, ``F``, ``Hz``; and the ratios ``%``,
+  ``Ω``/``ohm``/``ohms``, ``V``, ``A``, ``F``, ``H``, ``Hz``; and the ratios ``%``,
   ``ppm`` and ``dB`` (voltage ratio, ``20·log10``; a value in dB must stand
   alone, as in ``-3 dB`` or ``100 dB``). Drifts add ``/°C`` (or ``/K``, the
   same step) to ``V``, ``A``, ``%`` or ``ppm``: ``5 µV/°C``, ``25 ppm/K``.
+  Noise densities add ``/√Hz`` (or ``/rtHz``) to ``V`` or ``A``:
+  ``9 nV/√Hz``, ``2 fA/rtHz``.
   ``%`` and ``ppm`` scale the number (``1%`` is 1/100); the other units are
   labels, checked against the field's unit when the caller gives one.
 * Names given by the caller (``R1``, ``U1.Vos``, ``U1.Ib+``), the operators
@@ -104,12 +106,15 @@ UNITS: dict[str, str] = {
     "A": "A",
     "F": "F",
     "Hz": "Hz",
+    "H": "H",
     "%": "ratio",
     "ppm": "ratio",
     "dB": "ratio",
 }
 UNITS.update({f"{u}/°C": f"{c}/°C" for u, c in list(UNITS.items()) if u in ("V", "A", "%", "ppm")})
+UNITS.update({f"{u}{per}": f"{u}/√Hz" for u in ("V", "A") for per in ("/√Hz", "/rtHz")})
 _PER_DEGREE_BASES = frozenset({"V", "A", "%", "ppm"})
+_PER_ROOT_HZ = ("/√Hz", "/rtHz")  # noise densities: V/√Hz and A/√Hz
 _SCALE = {"%": Fraction(1, 100), "ppm": Fraction(1, 10**6)}
 _UNPREFIXED = {"%", "ppm", "dB"}
 
@@ -136,7 +141,9 @@ _OPERATORS = {
 _EXPECT_NUMBER = "a number such as 10k, 4.7n or 1e-9"
 _EXPECT_OPERAND = "a number (10k, 4.7n), a name or '('"
 _EXPECT_OPERATOR = "an operator (+ - * / ‖) or the end"
-_SUFFIXES = "an SI prefix (y z a f p n u µ m k M G T) and/or a unit (Ω, V, A, F, Hz, %, ppm, dB)"
+_SUFFIXES = (
+    "an SI prefix (y z a f p n u µ m k M G T) and/or a unit (Ω, V, A, F, H, Hz, %, ppm, dB)"
+)
 
 
 @dataclass(frozen=True)
@@ -264,6 +271,12 @@ class _Reader:
                     end = i + len(per)
                     if s.startswith(per, i) and not (end < n and s[end] in _NAME_CHARS):
                         unit, i = unit + "/°C", end
+                        break
+            if unit in ("V", "A"):
+                for per in _PER_ROOT_HZ:
+                    end = i + len(per)
+                    if s.startswith(per, i) and not (end < n and s[end] in _NAME_CHARS):
+                        unit, i = unit + per, end
                         break
         elif word and j == i:
             raise self.fail(f"unknown prefix or unit {s[j : k + 1]!r}", j, _SUFFIXES)
@@ -478,9 +491,12 @@ def parse_value(
     names : mapping of str to sympy.Expr, optional
         The names the text may use and what each stands for; without it only
         numbers are accepted.
-    unit : {"Ω", "V", "A", "F", "Hz", "ratio", "V/°C", "A/°C", "ratio/°C"}, optional
-        The field's unit: a unit written in the text must match it (``"ratio"``
-        accepts ``%``, ``ppm`` and ``dB``). Without it any unit is accepted.
+    unit : str, optional
+        The field's unit, one of ``"Ω"``, ``"V"``, ``"A"``, ``"F"``, ``"H"``,
+        ``"Hz"``, ``"ratio"``, ``"V/°C"``, ``"A/°C"``, ``"ratio/°C"``,
+        ``"V/√Hz"``, ``"A/√Hz"``: a unit written in the text must match it
+        (``"ratio"`` accepts ``%``, ``ppm`` and ``dB``). Without it any unit is
+        accepted.
 
     Returns
     -------
@@ -501,6 +517,8 @@ def parse_value(
     (-33/10, 1/3)
     >>> parse_value("1%", where="tolerance"), parse_value("100 dB", where="CMRR")
     (1/100, 100000)
+    >>> parse_value("9 nV/√Hz", where="U1 en", unit="V/√Hz")
+    9/1000000000
     >>> parse_value("10 nF", where="R1", unit="Ω")  # doctest: +ELLIPSIS
     Traceback (most recent call last):
     ...

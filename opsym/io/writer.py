@@ -31,9 +31,11 @@ plus = "p"
 minus = "out"
 out = "out"
 gain = "finite"
-include = ["offset", "bias"]
 >>> parse_design(text).analyze().coefficient("Vs") == c.analyze("out").coefficient("Vs")
 True
+
+The op-amp carries what ``Circuit.opamp`` gives by default (offset, bias and
+noise), so ``include`` is left out; it is written when it differs.
 """
 
 from __future__ import annotations
@@ -48,11 +50,18 @@ import sympy as sp
 
 from ..errors import DesignFileError, OpsymError
 from ..model.circuit import Circuit
-from ..model.elements import Capacitor, CurrentSource, OpAmp, Resistor, VoltageSource
-from ..model.nonideal import KINDS
+from ..model.elements import (
+    Capacitor,
+    CurrentSource,
+    Inductor,
+    OpAmp,
+    Resistor,
+    VoltageSource,
+)
+from ..model.nonideal import KINDS, SinglePole
 from ..model.symbols import component_symbol, opamp_symbol, source_symbol
 from ..numeric.params import OPAMP_SETS, RESISTOR_SETS, BiasLaw, OpAmpParams, ResistorParams
-from .design import FORMAT, PARAMETER_UNITS, Design
+from .design import DEFAULT_INCLUDE, FORMAT, OPAMP_VALUES, PARAMETER_UNITS, Design
 from .formatting import format_value, plain_decimal
 
 __all__ = ["dump_design"]
@@ -61,9 +70,12 @@ _BARE = re.compile(r"^[A-Za-z0-9_-]+$")
 _TABLE_OF = {
     Resistor: "resistors",
     Capacitor: "capacitors",
+    Inductor: "inductors",
     VoltageSource: "voltage-sources",
     CurrentSource: "current-sources",
 }
+#: A number as format_number writes it, split into mantissa and SI prefix.
+_PREFIXED = re.compile(r"^(-?[0-9.]+(?:e-?[0-9]+)?)([yzafpnumkMGT]?)$")
 
 
 def dump_design(
@@ -149,7 +161,7 @@ class _Writer:
         if unplaced:
             raise DesignFileError(
                 f"dump_design: no place for the values of {', '.join(unplaced)}; design files "
-                "hold numbers of elements and each op-amp's Vcm and dVs"
+                f"hold numbers of elements and each op-amp's {', '.join(OPAMP_VALUES)}"
             )
         if b:
             self.settings(b)
@@ -196,8 +208,12 @@ class _Writer:
         self.key("minus", amp.minus)
         self.key("out", amp.out)
         if amp.gain is not None:
-            finite = amp.gain == opamp_symbol(amp.name, "A")
-            self.key("gain", "finite" if finite else _text(amp.gain, f"{amp.name} gain"))
+            if amp.gain == opamp_symbol(amp.name, "A"):
+                self.key("gain", "finite")
+            elif amp.gain == SinglePole().gain(amp.name):
+                self.key("gain", "pole")
+            else:
+                self.key("gain", _text(amp.gain, f"{amp.name} gain"))
         kinds = []
         for n in amp.nonideals:
             if n.kind not in KINDS or type(n) is not KINDS[n.kind]:
@@ -206,11 +222,13 @@ class _Writer:
                     f"cannot describe (they know {', '.join(KINDS)})"
                 )
             kinds.append(n.kind)
-        self.key("include", kinds)
-        for what in ("Vcm", "dVs"):
+        if kinds != list(DEFAULT_INCLUDE):
+            self.key("include", kinds)
+        for what, (unit, _needs) in OPAMP_VALUES.items():
             name = f"{amp.name}.{what}"
             if name in self.nominal:
-                self.key(what, _text(self.nominal[name], name))
+                text = _text(self.nominal[name], name)
+                self.key(what, text if what in ("Vcm", "dVs") else _with_unit(text, unit))
                 self.written.add(name)
         params = self.base.opamps.get(amp.name) if self.base else None
         if params is not None:
@@ -242,11 +260,11 @@ class _Writer:
             s = b.budget
             body: dict[str, Any] = {"grade": s.grade, "temperatures": list(s.temperatures)}
             if s.full_scale is not None:
-                body["full-scale"] = _text(s.full_scale, "full-scale") + " V"
+                body["full-scale"] = _with_unit(_text(s.full_scale, "full-scale"), "V")
             self.table("budget", body)
             if s.adc_bits is not None and s.adc_reference is not None:
-                adc = {"bits": s.adc_bits, "reference": _text(s.adc_reference, "adc") + " V",
-                       "range": s.adc_range}  # fmt: skip
+                adc = {"bits": s.adc_bits, "range": s.adc_range,
+                       "reference": _with_unit(_text(s.adc_reference, "adc"), "V")}  # fmt: skip
                 self.table("budget.adc", adc)
         tol: dict[str, Any] = {}
         if b.resistor_default is not None:
@@ -266,6 +284,30 @@ class _Writer:
             if t.seed is not None:
                 tol["seed"] = t.seed
         self.table("tolerance", tol)
+        if b.response is not None:
+            r = b.response
+            body = {}
+            if r.signal is not None and (b.signal is None or r.signal != b.signal):
+                body["signal"] = r.signal
+            for key, f in (("from", r.f_start), ("to", r.f_stop)):
+                if f is not None:
+                    body[key] = _hertz(f, f"[response] {key}")
+            if r.points_per_decade is not None:
+                body["points-per-decade"] = r.points_per_decade
+            if r.at:
+                body["at"] = [_hertz(f, "[response] at") for f in r.at]
+            self.lines += ["", "[response]"]
+            for k, v in body.items():
+                self.key(k, v)
+        if b.noise is not None:
+            n = b.noise
+            stop = "inf" if n.f_stop == sp.oo else _hertz(n.f_stop, "[noise] to")
+            body = {"from": _hertz(n.f_start, "[noise] from"), "to": stop}
+            if n.temperature is not None:
+                body["temperature"] = n.temperature
+            if n.signal is not None and (b.signal is None or n.signal != b.signal):
+                body["signal"] = n.signal
+            self.table("noise", body)
 
     def table(self, name: str, body: dict[str, Any]) -> None:
         if body:
@@ -291,7 +333,7 @@ def _parameter_fields(p: OpAmpParams) -> dict[str, Any]:
         out["description"] = p.description
     for key in PARAMETER_UNITS:
         v = getattr(p, key)
-        if v != getattr(default, key):
+        if v is not None and v != getattr(default, key):
             if not math.isfinite(v):
                 raise DesignFileError(f"dump_design: {p.name} {key} = {v} cannot be written")
             out[key] = float(v)
@@ -301,6 +343,18 @@ def _parameter_fields(p: OpAmpParams) -> dict[str, Any]:
         if law.kind == "doubling" and float(f"{law.doubling_c:g}") != law.doubling_c:
             out["bias_law"] = f"doubling {law.doubling_c!r}"
     return out
+
+
+def _with_unit(text: str, unit: str) -> str:
+    """``"2.5m"`` and ``"V"`` give ``"2.5 mV"``; text that is no plain number stays as it is."""
+    m = _PREFIXED.match(text)
+    if not m or unit == "ratio":
+        return text
+    return f"{m.group(1)} {m.group(2)}{unit}"
+
+
+def _hertz(value: sp.Expr, what: str) -> str:
+    return _with_unit(_text(value, what), "Hz")
 
 
 def _text(value: sp.Expr, what: str) -> str:

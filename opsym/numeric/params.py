@@ -3,15 +3,18 @@
 An :class:`OpAmpParams` holds what a datasheet table gives for the DC error
 terms: offset voltage, its drift, bias and offset currents, open-loop gain,
 CMRR and PSRR, each as a typical value and a limit (maximum, or minimum for
-gain and rejection ratios). A :class:`BiasLaw` says how the bias current moves
-with temperature. A :class:`ResistorParams` holds a tolerance and a TCR.
+gain and rejection ratios). Optional typical values describe the dynamics and
+noise: gain-bandwidth product, voltage and current noise densities and their
+1/f corners. A :class:`BiasLaw` says how the bias current moves with
+temperature. A :class:`ResistorParams` holds a tolerance and a TCR.
 
 The shipped sets are **invented and generic**, of the orders of magnitude the
 trade associates with each input technology; they describe no real part. Use
 them to explore, then put your part's datasheet values in a set of your own.
 
 Units: volts, amperes, V/V, dB for CMRR/PSRR (as datasheets give them), V/°C
-for drift, fractions for tolerance and 1/°C for TCR.
+for drift, hertz for GBW and corners, V/√Hz and A/√Hz for noise densities,
+fractions for tolerance and 1/°C for TCR.
 
 Examples
 --------
@@ -131,6 +134,14 @@ class OpAmpParams:
         change of the total supply span.
     bias_law : BiasLaw
         How Ib and Ios scale with temperature.
+    gbw_typ : float or None
+        Gain-bandwidth product, Hz, for the single-pole gain model (its DC gain
+        ``A0`` is :meth:`gain`). ``None``: not given.
+    en_typ, in_typ : float or None
+        Input voltage noise density, V/√Hz, and current noise density, A/√Hz
+        (white part). ``None``: not given.
+    fce, fci : float or None
+        1/f corner frequencies of the voltage and current noise, Hz (0: white).
     """
 
     name: str
@@ -150,18 +161,25 @@ class OpAmpParams:
     psrr_typ_db: float = math.inf
     psrr_min_db: float = math.inf
     bias_law: BiasLaw = field(default_factory=BiasLaw)
+    gbw_typ: float | None = None
+    en_typ: float | None = None
+    in_typ: float | None = None
+    fce: float | None = None
+    fci: float | None = None
 
     def __post_init__(self) -> None:
         for f in dataclasses.fields(self):
             if f.name in ("name", "description", "bias_law"):
                 continue
             v = getattr(self, f.name)
+            if v is None and f.name in _OPTIONAL:
+                continue
             if isinstance(v, bool) or not isinstance(v, (int, float)) or math.isnan(v):
                 raise BudgetError(
                     f"op-amp set {self.name!r}: {f.name}={v!r} is not a number; give a float "
                     "(or build the set with OpAmpParams.from_mapping to read text like '25u')"
                 )
-            if f.name.startswith(("a_", "cmrr", "psrr")):
+            if f.name.startswith(("a_", "cmrr", "psrr", "gbw")):
                 if not v > 0:
                     raise BudgetError(f"op-amp set {self.name!r}: {f.name}={v} must be > 0")
             elif f.name != "ib_typ" and f.name != "ib_max" and v < 0:
@@ -237,12 +255,15 @@ class OpAmpParams:
             )
         if "name" not in data:
             raise BudgetError("op-amp set: give it a 'name'")
-        units = {"vos": "V", "dri": "V/°C", "ib_": "A", "ios": "A", "a_t": "V/V", "a_m": "V/V"}
+        units = {"vos": "V", "dri": "V/°C", "ib_": "A", "ios": "A", "a_t": "V/V", "a_m": "V/V",
+                 "gbw": "Hz", "en_": "V/√Hz", "in_": "A/√Hz", "fce": "Hz", "fci": "Hz"}
         kw: dict[str, Any] = {}
         for key, raw in data.items():
             where = f"op-amp set {data['name']!r} field {key}"
             if key in ("name", "description"):
                 kw[key] = str(raw)
+            elif raw is None and key in _OPTIONAL:
+                kw[key] = None
             elif isinstance(raw, (int, float)) and not isinstance(raw, bool):
                 kw[key] = float(raw)  # numbers as they are (inf: "no limit"); checked below
             elif key == "bias_law":
@@ -252,6 +273,10 @@ class OpAmpParams:
             else:
                 kw[key] = parse_quantity(raw, units.get(key[:3]), where=where)
         return cls(**kw)
+
+
+#: Fields that may be ``None`` (not given).
+_OPTIONAL = frozenset({"gbw_typ", "en_typ", "in_typ", "fce", "fci"})
 
 
 def _db(raw: Any, where: str) -> float:
@@ -336,6 +361,9 @@ class ResistorParams:
 
 
 #: Invented generic op-amp sets (no real part): typical / limit values of the usual order.
+#: Noise is typical only, as datasheets give it: FET and CMOS inputs have the shot noise
+#: of their leakage, white (fci = 0); a zero-drift part chops away its 1/f noise (fce = 0)
+#: but its switching adds current noise.
 OPAMP_SETS: dict[str, OpAmpParams] = {
     p.name: p
     for p in (
@@ -346,6 +374,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             ib_typ=1e-09, ib_max=2e-09, ios_typ=3e-10, ios_max=2e-09,
             a_typ=5e6, a_min=1e6, cmrr_typ_db=130, cmrr_min_db=120,
             psrr_typ_db=120, psrr_min_db=110,
+            gbw_typ=1e6, en_typ=10e-9, in_typ=0.1e-12, fce=5.0, fci=100.0,
         ),
         OpAmpParams(
             "generic general-purpose bipolar",
@@ -354,6 +383,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             ib_typ=8e-08, ib_max=5e-07, ios_typ=2e-08, ios_max=2e-07,
             a_typ=2e5, a_min=2e4, cmrr_typ_db=90, cmrr_min_db=70,
             psrr_typ_db=90, psrr_min_db=76,
+            gbw_typ=1e6, en_typ=20e-9, in_typ=0.5e-12, fce=100.0, fci=300.0,
         ),
         OpAmpParams(
             "generic JFET",
@@ -362,6 +392,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             ib_typ=3e-11, ib_max=2e-10, ios_typ=5e-12, ios_max=1e-10,
             a_typ=2e5, a_min=5e4, cmrr_typ_db=100, cmrr_min_db=80,
             psrr_typ_db=100, psrr_min_db=80, bias_law=BiasLaw("doubling", 10.0),
+            gbw_typ=4e6, en_typ=12e-9, in_typ=10e-15, fce=200.0, fci=0.0,
         ),
         OpAmpParams(
             "generic CMOS",
@@ -370,6 +401,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             ib_typ=1e-12, ib_max=1e-11, ios_typ=5e-13, ios_max=1e-11,
             a_typ=1e6, a_min=1e5, cmrr_typ_db=95, cmrr_min_db=80,
             psrr_typ_db=95, psrr_min_db=80, bias_law=BiasLaw("doubling", 10.0),
+            gbw_typ=2e6, en_typ=20e-9, in_typ=2e-15, fce=1000.0, fci=0.0,
         ),
         OpAmpParams(
             "generic zero-drift CMOS",
@@ -378,6 +410,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             ib_typ=2e-11, ib_max=1e-10, ios_typ=2e-11, ios_max=2e-10,
             a_typ=1e7, a_min=1e6, cmrr_typ_db=130, cmrr_min_db=115,
             psrr_typ_db=130, psrr_min_db=115, bias_law=BiasLaw("doubling", 10.0),
+            gbw_typ=1.5e6, en_typ=30e-9, in_typ=100e-15, fce=0.0, fci=0.0,
         ),
     )
 }  # fmt: skip

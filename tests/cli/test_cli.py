@@ -7,6 +7,7 @@ one run per example, and bad files checked together where one run can show it.
 from __future__ import annotations
 
 import os
+import shutil
 import subprocess
 import sys
 from pathlib import Path
@@ -183,3 +184,157 @@ def test_internal_faults_exit_1_with_a_bug_note(monkeypatch, capsys):
     assert main(["check", "x.toml"]) == 1
     err = capsys.readouterr().err
     assert "internal error (RuntimeError: boom)" in err and "bug" in err
+
+
+# -- frequency response and noise ------------------------------------------------------------
+
+TIA = ROOT / "docs" / "examples" / "photodiode-transimpedance.toml"
+
+TIA_BAD_BASE = """\
+output = "out"
+[resistors]
+Rf = { between = ["n", "out"], value = "1M" }
+[capacitors]
+Cf = { between = ["n", "out"], value = "1p" }
+[current-sources]
+Iph = { from = "0", into = "n", value = "1u" }
+[opamps.U1]
+plus = "0"
+minus = "n"
+out = "out"
+gain = "pole"
+A0 = "100k"
+GBW = "10 MHz"
+en = "8n"
+fce = "100 Hz"
+in = "1f"
+[noise]
+from = "1 Hz"
+to = "10 kHz"
+"""
+
+
+def test_report_prints_and_writes_the_frequency_sections(tmp_path):
+    from opsym.output import figures
+
+    run = opsym(
+        "report", str(TIA), "--markdown", str(tmp_path / "note.md"),
+        "--latex", str(tmp_path / "note.tex"), "--standalone", "--figures", str(tmp_path / "fig"),
+    )  # fmt: skip
+    assert run.returncode == 0, run.stderr
+    assert "Traceback" not in run.stderr
+    out = run.stdout
+    assert "Frequency response of V(out) from Iph, 10 Hz to 10 MHz" in out
+    assert "−3 dB bandwidth" in out and "Gain and gain error of V(out) from Iph" in out
+    assert "Noise budget at out, 100 mHz to 100 kHz" in out and "referred to the input" in out
+    assert out.index("Error budget") < out.index("Frequency response") < out.index("Noise budget")
+    md = (tmp_path / "note.md").read_text(encoding="utf-8")
+    assert md.index("### Frequency response") < md.index("### Noise") < md.index("### Caution")
+    assert "H(s) =" in md or "\\frac" in md
+    tex = (tmp_path / "note.tex").read_text(encoding="utf-8")
+    assert tex.index(r"\subsection*{Noise}") < tex.index(r"\subsection*{Caution}")
+    drawn = {"contributions.png"}
+    for name, file in [("bode_chart", "bode.png"), ("gain_error_chart", "gain-error.png"),
+                       ("noise_density_chart", "noise-density.png")]:  # fmt: skip
+        if hasattr(figures, name):
+            drawn.add(file)
+            assert f"fig/{file}" in md
+        else:
+            assert f"cannot draw {file}" in run.stderr
+    assert {p.name for p in (tmp_path / "fig").iterdir()} == drawn
+    if shutil.which("pdflatex"):  # the note compiles as written
+        build = subprocess.run(
+            ["pdflatex", "-interaction=nonstopmode", "-halt-on-error", "note.tex"],
+            cwd=tmp_path, capture_output=True, text=True, timeout=120,
+        )  # fmt: skip
+        assert build.returncode == 0, build.stdout[-2000:]
+
+
+def test_bad_frequency_tables_exit_2_naming_the_field(tmp_path):
+    bad = {
+        "negative-gbw.toml": (TIA_BAD_BASE.replace('"10 MHz"', '"-10 MHz"'),
+                              "[opamps.U1] GBW (line 14): GBW = -10000000 must be positive"),
+        "noise-key.toml": (TIA_BAD_BASE + "bandwidth = 3\n",
+                           "[noise] (line 21): unknown key 'bandwidth'"),
+        "to-below-from.toml": (TIA_BAD_BASE.replace('"10 kHz"', '"0.5 Hz"'),
+                               "[noise] to (line 20): 1/2 Hz is not above 'from'"),
+        "corner-from-zero.toml": (TIA_BAD_BASE.replace('from = "1 Hz"', "from = 0"),
+                                  "[noise] from (line 19): a band from 0 Hz: the 1/f noise"),
+    }  # fmt: skip
+    for name, (text, _) in bad.items():
+        (tmp_path / name).write_text(text, encoding="utf-8")
+    run = opsym("check", *sorted(bad), cwd=tmp_path)
+    assert run.returncode == 2 and "Traceback" not in run.stderr
+    lines = run.stderr.strip().splitlines()
+    assert len(lines) == len(bad), run.stderr
+    for name, (_, message) in bad.items():
+        assert any(line.startswith(f"opsym: error: {name} ") and message in line
+                   for line in lines), (name, run.stderr)  # fmt: skip
+    # found only when the noise is integrated: a flat density to infinity
+    (tmp_path / "flat.toml").write_text(
+        'output = "a"\n[resistors]\nR1 = { between = ["a", "0"], value = "1k" }\n'
+        '[current-sources]\nI1 = { from = "0", into = "a", value = 0 }\n'
+        '[noise]\nfrom = "1 Hz"\nto = "inf"\n',
+        encoding="utf-8",
+    )
+    run = opsym("report", "flat.toml", "--markdown", "out.md", cwd=tmp_path)
+    assert run.returncode == 2 and "Traceback" not in run.stderr
+    assert run.stderr.startswith("opsym: error: flat.toml [noise] to: ")
+    assert len(run.stderr.strip().splitlines()) == 1
+    assert not (tmp_path / "out.md").exists()
+
+
+def test_noise_without_densities_is_a_user_error(tmp_path, capsys):
+    (tmp_path / "f.toml").write_text(TIA_BAD_BASE.replace('en = "8n"\nfce = "100 Hz"\n', ""),
+                                     encoding="utf-8")  # fmt: skip
+    assert main(["report", str(tmp_path / "f.toml")]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("opsym: error: ") and "[noise]" in err and "U1.en" in err
+    assert "en_typ" in err and "Traceback" not in err
+
+
+def test_frequency_figures_and_formulas_are_called_as_documented(tmp_path, monkeypatch, capsys):
+    """The report calls the figure and formula functions with their documented signatures."""
+    import inspect
+
+    from opsym.output import figures, latex
+
+    calls: dict[str, dict] = {}
+
+    def fake(name):
+        def draw(first, path, **options):
+            calls[name] = {"first": first, **options}
+            Path(path).write_bytes(b"png")
+            return Path(path)
+
+        return draw
+
+    documented = {
+        "bode_chart": ("source", "f_start", "f_stop", "ideal"),
+        "gain_error_chart": ("signal", "f_start", "f_stop"),
+        "noise_density_chart": ("f_start", "f_stop", "top"),
+    }
+    for name, keywords in documented.items():
+        real = getattr(figures, name, None)
+        if real is not None:  # the real one exists: it takes the keywords the report passes
+            assert set(keywords) <= set(inspect.signature(real).parameters), name
+        monkeypatch.setattr(figures, name, fake(name), raising=False)
+    monkeypatch.setattr(latex, "transfer_latex", lambda r, source=None: r"H_{x}(s)", raising=False)
+    monkeypatch.setattr(latex, "noise_latex", lambda n: r"\[ e_{x} \]", raising=False)
+    monkeypatch.setattr(figures, "contribution_chart", fake("contribution_chart"))
+    md = tmp_path / "note.md"
+    assert main(["report", str(TIA), "-q", "--figures", str(tmp_path / "f"), "--markdown",
+                 str(md)]) == 0  # fmt: skip
+    assert capsys.readouterr().err == ""
+    assert calls["bode_chart"]["source"] == "Iph" and calls["bode_chart"]["ideal"] is True
+    assert (calls["bode_chart"]["f_start"], calls["bode_chart"]["f_stop"]) == (10.0, 1e7)
+    assert calls["gain_error_chart"]["signal"] == "Iph"
+    assert (calls["noise_density_chart"]["f_start"], calls["noise_density_chart"]["f_stop"]) == (
+        0.1,
+        1e5,
+    )
+    assert calls["noise_density_chart"]["first"].names[0] == "Rf"  # a NoiseResult
+    text = md.read_text(encoding="utf-8")
+    assert "$$\nH_{x}(s)\n$$" in text and "$$\ne_{x}\n$$" in text
+    for file in ("bode.png", "gain-error.png", "noise-density.png"):
+        assert f"(../f/{file})" in text or f"(f/{file})" in text

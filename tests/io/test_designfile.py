@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 import textwrap
 from pathlib import Path
 
@@ -46,7 +47,8 @@ def fails(text: str, *fragments: str) -> str:
 
 
 def test_examples_exist():
-    assert len(EXAMPLES) >= 5
+    assert len(EXAMPLES) >= 6
+    assert "photodiode-transimpedance.toml" in [p.name for p in EXAMPLES]
 
 
 @pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.name)
@@ -298,3 +300,15 @@ def test_a_registered_non_ideality_is_read_from_include(monkeypatch):
     vos, drift = design.circuit.symbol("U1.Vos"), sp.Symbol("U1.Vdrift", real=True)
     assert set(res.terms) == {vos, drift}
     assert sp.simplify(res.coefficient(drift) - res.coefficient(vos)) == 0
+
+
+def test_the_examples_in_the_design_file_guide_read_and_run():
+    from opsym.io.study import run_design
+
+    guide = (Path(__file__).parents[2] / "docs" / "design-files.md").read_text(encoding="utf-8")
+    blocks = [b for b in re.findall(r"```toml\n(.*?)```", guide, re.S) if "output =" in b]
+    assert len(blocks) == 2
+    complete, frequency = (parse_design(b, filename="guide.toml") for b in blocks)
+    assert complete.budget is not None and complete.tolerance is not None
+    study = run_design(frequency)
+    assert study.response.bandwidth > 0 and study.noise.budget.total > 0
