@@ -4,8 +4,9 @@ A greenhouse leaf-wetness probe (a resistive sensor with 4.7 kΩ source
 resistance) feeds a two-stage front end: a non-inverting gain stage U1, then an
 inverting stage U2 with a bias-compensation resistor R5 at its + pin, into a
 data-acquisition input. The demo derives every error term in closed form, the
-null condition for R5 met with an E96 value, and the numeric error budget with
-SI prefixes.
+null condition for R5 met with an E96 value, the numeric error budget with
+SI prefixes, then the bandwidth with single-pole op-amps and the noise budget
+over the probe's band.
 
 Examples
 --------
@@ -44,19 +45,25 @@ VALUES = {
 #: Both op-amps: the invented generic precision bipolar set shipped with opsym.
 OPAMP_SET = "generic precision bipolar"
 
+#: Dynamics and noise of both op-amps for the frequency part (invented values).
+DYNAMICS = {"A0": "1M", "GBW": "1.5M", "en": "9n", "fce": "8", "in": "0.3p", "fci": "120"}
 
-def build_circuit() -> Circuit:
-    """The scenario's circuit, every component symbolic."""
+#: The band the probe's readings are filtered to, Hz (invented).
+NOISE_BAND = (0.1, 1e3)
+
+
+def build_circuit(gain: str = "finite") -> Circuit:
+    """The scenario's circuit, every component symbolic; ``gain`` of both op-amps."""
     c = Circuit("leaf-wetness probe front end")
     c.voltage_source("Vs", "s", "0")
     c.resistor("Rs", "s", "p1")  # the probe's own resistance
     c.resistor("R1", "n1", "0")
     c.resistor("R2", "n1", "o1")
-    c.opamp("U1", plus="p1", minus="n1", out="o1", gain="finite")
+    c.opamp("U1", plus="p1", minus="n1", out="o1", gain=gain)
     c.resistor("R3", "o1", "n2")
     c.resistor("R4", "n2", "out")
     c.resistor("R5", "p2", "0")  # bias compensation for U2
-    c.opamp("U2", plus="p2", minus="n2", out="out", gain="finite")
+    c.opamp("U2", plus="p2", minus="n2", out="out", gain=gain)
     return c
 
 
@@ -66,6 +73,7 @@ def run(stream: TextIO | None = None) -> int:
     from .numeric.budget import error_budget
     from .numeric.eseries import choose_for_null
     from .numeric.params import opamp_parameters, resistor_parameters
+    from .numeric.units import format_si
 
     out = stream or sys.stdout
 
@@ -109,4 +117,21 @@ def run(stream: TextIO | None = None) -> int:
     say("\nNumeric error budget: datasheet limits of the generic set, 0.1 % resistors,")
     say(f"a 16-bit ±2.5 V converter; signal gain {budget.input_gain:.5g} V/V:\n")
     say(budget.to_text())
+
+    dynamic = build_circuit("pole")
+    numbers = dict(values)
+    for amp in ("U1", "U2"):
+        numbers.update({f"{amp}.{k}": v for k, v in DYNAMICS.items()})
+    ac = dynamic.analyze("out", domain="s", values={k: v for k, v in numbers.items()
+                                                      if k != "Vs"})  # fmt: skip
+    say(f"\nWith single-pole op-amps (A0 = {DYNAMICS['A0']}, GBW = {DYNAMICS['GBW']}Hz):")
+    error_1k = abs(ac.gain_error_response(1e3, "Vs")[()])
+    say(f"  -3 dB bandwidth {format_si(ac.bandwidth('Vs'), 'Hz')}; "
+        f"gain error at 1 kHz {100 * error_1k:.3g} %")  # fmt: skip
+    noise = dynamic.noise("out", values={k: v for k, v in numbers.items() if k != "Vs"})
+    low, high = NOISE_BAND
+    say(f"\nNoise over {format_si(low, 'Hz')} to {format_si(high, 'Hz')} at 25 °C "
+        f"(en = {DYNAMICS['en']}V/√Hz, in = {DYNAMICS['in']}A/√Hz, 1/f corners "
+        f"{DYNAMICS['fce']} Hz and {DYNAMICS['fci']} Hz):\n")  # fmt: skip
+    say(noise.budget(low, high, "Vs").to_text())
     return 0
