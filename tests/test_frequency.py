@@ -176,3 +176,18 @@ def test_response_of_named_source_and_ideal():
     want = -1 / (1 + 2j * np.pi * f * 1e-5)  # −R2/R1/(1 + jωR2C2)
     assert ideal == pytest.approx(want, rel=1e-12)
     assert res.response(f, "U1.Vos")[0] == pytest.approx(2.0, rel=1e-3)  # NG = 2 at low f
+
+
+def test_noise_takes_densities_from_a_parameter_set():
+    params = opsym.opamp_parameters("generic CMOS")
+    c = opsym.Circuit("follower")
+    c.voltage_source("Vin", "p", "0")
+    c.opamp("U1", plus="p", minus="out", out="out", gain="pole", bias=False)
+    n = c.noise("out", opamps={"U1": params})
+    # Well below the closed-loop pole a follower passes en unchanged [derived].
+    white = params.en_typ * math.sqrt(1 + (params.fce or 0) / 1e3)
+    assert float(n.density(1e3)) == pytest.approx(white, rel=1e-4)
+    given = c.noise("out", opamps={"U1": params}, values={"U1.en": "1n", "U1.fce": 0})
+    assert float(given.density(1e3)) == pytest.approx(1e-9, rel=1e-4)  # values win
+    with pytest.raises(opsym.InvalidValueError, match="OpAmpParams"):
+        c.noise("out", opamps={"U1": {"en": 1e-9}})

@@ -181,14 +181,8 @@ def numeric_values(design: Design) -> dict[str, float]:
         params = design.opamps.get(amp.name)
         if params is None:
             continue
-        for what, number in (
-            ("A", params.gain(grade)), ("A0", params.gain(grade)), ("CMRR", params.cmrr(grade)),
-            ("PSRR", params.psrr(grade)), ("GBW", params.gbw_typ), ("en", params.en_typ),
-            ("in", params.in_typ), ("fce", params.fce), ("fci", params.fci),
-        ):  # fmt: skip
-            name = f"{amp.name}.{what}"
-            if name not in values and number is not None and number != float("inf"):
-                values[name] = number
+        for name, number in params.values_for(amp.name, grade).items():
+            values.setdefault(name, number)
     return values
 
 

@@ -366,6 +366,7 @@ class Circuit:
         values: Mapping[Any, Any] | None = None,
         temperature: Any = 25,
         progress: Any = None,
+        opamps: Mapping[str, Any] | None = None,
     ) -> NoiseResult:
         """Noise analysis: every noise source's transfer to ``output``, in the s domain.
 
@@ -384,6 +385,9 @@ class Circuit:
             ``"U1.fci"`` in Hz); the rest stay symbolic.
         temperature : number or text
             Resistor temperature in °C (``25`` is 298.15 K).
+        opamps : mapping of str to OpAmpParams, optional
+            Parameter sets by op-amp name: their typical densities, corners,
+            ``GBW`` and gain fill what ``values`` leaves out.
 
         Examples
         --------
@@ -396,7 +400,19 @@ class Circuit:
         """
         from ..analyses.noise import noise
 
-        return noise(self, output, values=values, temperature=temperature, progress=progress)
+        merged: dict[Any, Any] = {}
+        for name, params in (opamps or {}).items():
+            if not hasattr(params, "values_for"):
+                raise InvalidValueError(
+                    f"opamps[{name!r}]: give an OpAmpParams, e.g. "
+                    "opamp_parameters('generic CMOS')"
+                )
+            if not isinstance(self.element(name), OpAmp):
+                raise InvalidValueError(f"opamps[{name!r}]: {name} is not an op-amp")
+            merged.update(params.values_for(name, "typical"))
+        for key, value in (values or {}).items():
+            merged[key.name if isinstance(key, sp.Symbol) else key] = value
+        return noise(self, output, values=merged, temperature=temperature, progress=progress)
 
     def __repr__(self) -> str:
         return f"Circuit({self.title!r}, {len(self._elements)} elements)"

@@ -222,6 +222,31 @@ class OpAmpParams:
         db = self.psrr_min_db if _check_grade(grade) == "max" else self.psrr_typ_db
         return db_to_ratio(db)
 
+    def values_for(self, opamp: str, grade: str = "max") -> dict[str, float]:
+        """The set's numbers under op-amp ``opamp``'s symbol names, for ``values=``.
+
+        ``A`` and ``A0`` (the DC gain of a single pole), ``CMRR`` and ``PSRR``
+        follow ``grade``; ``GBW``, the noise densities ``en``, ``in`` and their
+        corners ``fce``, ``fci`` are typical values. Fields the set leaves out,
+        and infinite ratios, are not given.
+
+        Examples
+        --------
+        >>> v = opamp_parameters("generic CMOS").values_for("U1")
+        >>> sorted(k for k in v if k.startswith("U1.") and k[3:] in ("en", "GBW"))
+        ['U1.GBW', 'U1.en']
+        """
+        pairs = (
+            ("A", self.gain(grade)), ("A0", self.gain(grade)), ("CMRR", self.cmrr(grade)),
+            ("PSRR", self.psrr(grade)), ("GBW", self.gbw_typ), ("en", self.en_typ),
+            ("in", self.in_typ), ("fce", self.fce), ("fci", self.fci),
+        )  # fmt: skip
+        return {
+            f"{opamp}.{what}": float(v)
+            for what, v in pairs
+            if v is not None and math.isfinite(v)
+        }
+
     def replace(self, **changes: Any) -> OpAmpParams:
         """A copy with some fields changed (text like ``"25u"`` is read too).
 
