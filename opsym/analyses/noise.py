@@ -50,6 +50,7 @@ from ..model.elements import CurrentSource, Resistor
 from ..model.nonideal import NoiseSpectrum
 from ..model.symbols import LAPLACE, thermal_symbol
 from ..model.topology import check_topology
+from ..numeric._views import TableViews
 from ..numeric.frequency import evaluator, integrate
 from .derive import coefficients_of, output_weights, resolve_values, sources_of
 from .present import transfer_form
@@ -401,7 +402,7 @@ class NoiseRow:
 
 
 @dataclass(frozen=True)
-class NoiseBudget:
+class NoiseBudget(TableViews):
     """RMS noise over a band, source by source, with the total and a p-p estimate."""
 
     output: str
@@ -424,14 +425,3 @@ class NoiseBudget:
 
         return noise_table(self)
 
-    def to_markdown(self) -> str:
-        """GitHub-flavoured Markdown table with the totals and rules below."""
-        return self.table().to_markdown()
-
-    def to_latex(self, *, float_env: bool = True) -> str:
-        """LaTeX booktabs table (``float_env=False``: the tabular alone)."""
-        return self.table().to_latex(float_env=float_env)
-
-    def to_text(self) -> str:
-        """Plain-text table for the terminal."""
-        return self.table().to_text()

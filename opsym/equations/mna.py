@@ -128,6 +128,23 @@ class _Builder:
         if owner not in self.owners[row]:
             self.owners[row].append(owner)
 
+    def admittance(self, a: str, b: str, y: sp.Expr, owner: str) -> None:
+        """Stamp the admittance ``y`` between nodes ``a`` and ``b``."""
+        ra, rb, ca, cb = self.row_of(a), self.row_of(b), self.col(a), self.col(b)
+        self.add(ra, ca, y, owner)
+        self.add(rb, cb, y, owner)
+        self.add(ra, cb, -y, owner)
+        self.add(rb, ca, -y, owner)
+
+    def voltage_branch(self, element: str, label: str, a: str, b: str) -> tuple[int, int]:
+        """A branch whose current leaves ``a`` for ``b`` and whose row reads ``V(a) − V(b)``."""
+        row, col = self.branch(element, label)
+        self.add(self.row_of(a), col, sp.S.One, element)
+        self.add(self.row_of(b), col, sp.S.NegativeOne, element)
+        self.add(row, self.col(a), sp.S.One, element)
+        self.add(row, self.col(b), sp.S.NegativeOne, element)
+        return row, col
+
     def branch(self, element: str, label: str) -> tuple[int, int]:
         """Add a branch-current unknown and its own row; return (row, col)."""
         col = len(self.unknowns)
@@ -166,31 +183,16 @@ def build_equations(
     for e in circuit.elements:
         if isinstance(e, Resistor):
             g = 1 / val(e.value)
-            ra, rb = b.row_of(e.a), b.row_of(e.b)
-            ca, cb = b.col(e.a), b.col(e.b)
-            b.add(ra, ca, g, e.name)
-            b.add(rb, cb, g, e.name)
-            b.add(ra, cb, -g, e.name)
-            b.add(rb, ca, -g, e.name)
+            b.admittance(e.a, e.b, g, e.name)
             if thermal:
-                b.source(ra, thermal_symbol(e.name), -g, e.name)
-                b.source(rb, thermal_symbol(e.name), g, e.name)
+                b.source(b.row_of(e.a), thermal_symbol(e.name), -g, e.name)
+                b.source(b.row_of(e.b), thermal_symbol(e.name), g, e.name)
         elif isinstance(e, Capacitor):
             if domain == "dc":
                 continue  # open circuit at DC
-            y = LAPLACE * val(e.value)
-            ra, rb = b.row_of(e.a), b.row_of(e.b)
-            ca, cb = b.col(e.a), b.col(e.b)
-            b.add(ra, ca, y, e.name)
-            b.add(rb, cb, y, e.name)
-            b.add(ra, cb, -y, e.name)
-            b.add(rb, ca, -y, e.name)
+            b.admittance(e.a, e.b, LAPLACE * val(e.value), e.name)
         elif isinstance(e, Inductor):
-            row, col = b.branch(e.name, f"inductor {e.name}")
-            b.add(b.row_of(e.a), col, sp.S.One, e.name)
-            b.add(b.row_of(e.b), col, sp.S.NegativeOne, e.name)
-            b.add(row, b.col(e.a), sp.S.One, e.name)
-            b.add(row, b.col(e.b), sp.S.NegativeOne, e.name)
+            row, col = b.voltage_branch(e.name, f"inductor {e.name}", e.a, e.b)
             if domain == "s":
                 b.add(row, col, -LAPLACE * val(e.value), e.name)
         elif isinstance(e, CurrentSource):
@@ -198,11 +200,7 @@ def build_equations(
             b.source(b.row_of(e.a), s, sp.S.NegativeOne, e.name)
             b.source(b.row_of(e.b), s, sp.S.One, e.name)
         elif isinstance(e, VoltageSource):
-            row, col = b.branch(e.name, f"voltage source {e.name}")
-            b.add(b.row_of(e.a), col, sp.S.One, e.name)
-            b.add(b.row_of(e.b), col, sp.S.NegativeOne, e.name)
-            b.add(row, b.col(e.a), sp.S.One, e.name)
-            b.add(row, b.col(e.b), sp.S.NegativeOne, e.name)
+            row, col = b.voltage_branch(e.name, f"voltage source {e.name}", e.a, e.b)
             b.source(row, source_symbol(e.name), sp.S.One, e.name)
         elif isinstance(e, OpAmp):
             _stamp_opamp(b, e, val)

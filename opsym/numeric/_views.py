@@ -17,9 +17,9 @@ class TableViews:
         """Markdown table."""
         return self.table().to_markdown()
 
-    def to_latex(self) -> str:
-        """LaTeX booktabs table (in a ``table`` float)."""
-        return self.table().to_latex()
+    def to_latex(self, *, float_env: bool = True) -> str:
+        """LaTeX booktabs table, in a ``table`` float unless ``float_env=False``."""
+        return self.table().to_latex(float_env=float_env)
 
     def to_text(self) -> str:
         """Aligned plain-text table for a terminal."""

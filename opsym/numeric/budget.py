@@ -56,6 +56,7 @@ from ._plan import (
     _prepare,
     _tolerance_deviation,
 )
+from ._views import TableViews
 from .adc import ADC
 from .params import REFERENCE_TEMPERATURE, OpAmpParams, ResistorParams
 from .units import format_si
@@ -125,7 +126,7 @@ def _num(x: float | None, signed: bool, digits: int = 3) -> str:
 
 
 @dataclass(frozen=True)
-class Budget:
+class Budget(TableViews):
     """An immutable error budget: rows largest first, worst-case and RSS totals.
 
     Use :meth:`to_markdown`, :meth:`to_latex` (booktabs) or :meth:`to_text`.
@@ -217,18 +218,6 @@ class Budget:
             footer.append(tuple(cells))
         align = "lrrrr" + ("r" if fs else "") + ("r" if self.adc else "") + "r"
         return Table(tuple(headers), tuple(body), align, self.title, tuple(footer), self.notes)
-
-    def to_markdown(self) -> str:
-        """Markdown table with the rules used as notes."""
-        return self.table().to_markdown()
-
-    def to_latex(self, *, float_env: bool = True) -> str:
-        """LaTeX booktabs table (needs ``\\usepackage{booktabs}``)."""
-        return self.table().to_latex(float_env=float_env)
-
-    def to_text(self) -> str:
-        """Plain text for a terminal."""
-        return self.table().to_text()
 
     def __str__(self) -> str:
         return self.to_text()
