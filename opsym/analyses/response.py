@@ -24,7 +24,8 @@ class FrequencyResponse:
     """Mixin of :class:`~opsym.analyses.result.Result` for ``domain="s"`` results.
 
     It relies on the result's ``_domain``, ``_signal``, ``_source_symbol``,
-    ``compact_coefficient`` and ``ideal``.
+    ``compact_coefficient``, ``coefficient`` and ``ideal``; the form it evaluates
+    is chosen by :func:`opsym.numeric.frequency.for_numbers`.
     """
 
     __slots__ = ()
@@ -39,6 +40,9 @@ class FrequencyResponse:
         raise NotImplementedError
 
     def compact_coefficient(self, source: Any) -> sp.Expr:
+        raise NotImplementedError
+
+    def coefficient(self, source: Any) -> sp.Expr:
         raise NotImplementedError
 
     def ideal(self) -> Any:
@@ -69,7 +73,7 @@ class FrequencyResponse:
         result = self.ideal() if ideal else self
         from ..numeric.frequency import evaluator
 
-        return evaluator(result.compact_coefficient(sym), f"the coefficient of {sym}")(f)
+        return evaluator(result._numeric_form(sym), f"the coefficient of {sym}")(f)
 
     def bandwidth(
         self, source: str | sp.Symbol | None = None, drop_db: float = HALF_POWER_DB
@@ -92,7 +96,7 @@ class FrequencyResponse:
         sym = self._signal(source) if source is None else self._source_symbol(source)
         from ..numeric.frequency import bandwidth, evaluator
 
-        return bandwidth(evaluator(self.compact_coefficient(sym), f"the coefficient of {sym}"),
+        return bandwidth(evaluator(self._numeric_form(sym), f"the coefficient of {sym}"),
                          drop_db)  # fmt: skip
 
     def gain_error_response(self, f: Any, signal: str | sp.Symbol | None = None) -> np.ndarray:
@@ -114,3 +118,8 @@ class FrequencyResponse:
             raise InvalidValueError(
                 f"{what} needs a Laplace-domain result; analyse with domain='s'"
             )
+
+    def _numeric_form(self, sym: sp.Symbol) -> sp.Expr:
+        from ..numeric.frequency import for_numbers
+
+        return for_numbers(self.compact_coefficient(sym), lambda: self.coefficient(sym))

@@ -35,6 +35,7 @@ __all__ = [
     "HALF_POWER_DB",
     "bandwidth",
     "evaluator",
+    "for_numbers",
     "frequency_grid",
     "integrate",
     "noise_bandwidth",
@@ -104,6 +105,29 @@ def _log_evaluator(expr: sp.Expr) -> Callable[[np.ndarray], np.ndarray]:
         return np.log(np.broadcast_to(np.asarray(fn(s), dtype=complex), np.shape(s)))
 
     return log_of
+
+
+#: Highest power of ``s`` a collected form may have and still be evaluated as a polynomial.
+_MAX_COLLECTED_DEGREE = 24
+
+
+def for_numbers(compact: sp.Expr, collect: Callable[[], sp.Expr]) -> sp.Expr:
+    """The form of a transfer function to evaluate in floating point.
+
+    A product (a cascade's chain of stage factors) is evaluated as it is, in
+    logarithms. A sum over several paths can cancel in floating point, so its
+    collected form ``collect()`` is used instead, unless that is a polynomial of
+    such high degree in ``s`` that its coefficients would overflow.
+    """
+    if not compact.is_Add:
+        return compact
+    collected = collect()
+    num, den = sp.fraction(collected)
+    try:
+        degree = max(sp.degree(num, LAPLACE), sp.degree(den, LAPLACE))
+    except sp.PolynomialError:  # not a rational function of s in this form
+        return compact
+    return collected if degree <= _MAX_COLLECTED_DEGREE else compact
 
 
 def frequency_grid(start: float, stop: float, points_per_decade: int = 50) -> np.ndarray:
