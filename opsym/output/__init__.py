@@ -2,12 +2,16 @@
 
 :mod:`~opsym.output.tables` (Markdown, LaTeX booktabs, terminal),
 :mod:`~opsym.output.figures` (matplotlib, imported only when a figure is drawn),
-:mod:`~opsym.output.notes` (a complete design-note section) and
-:mod:`~opsym.output.latex` (the superposed output as LaTeX). Importing this
+:mod:`~opsym.output.notes` (a complete design-note section),
+:mod:`~opsym.output.sections` (its frequency-response and noise sections),
+:mod:`~opsym.output.latex` (the superposed output and ``H(s)`` as LaTeX),
+:mod:`~opsym.output.laplace` (transfer functions as gain, zeros and poles) and
+:mod:`~opsym.output.noise` (noise budgets and the noise sum). Importing this
 package does not import matplotlib.
 """
 
 from .notes import CAUTION, design_note
+from .sections import FrequencySection, NoiseSection
 from .tables import Table, latex_text
 
-__all__ = ["CAUTION", "Table", "design_note", "latex_text"]
+__all__ = ["CAUTION", "FrequencySection", "NoiseSection", "Table", "design_note", "latex_text"]

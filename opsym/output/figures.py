@@ -1,4 +1,4 @@
-"""Figures for design notes: contributions, error over temperature, Monte Carlo histogram.
+"""Figures for design notes: budgets, temperature, Monte Carlo, frequency response, noise.
 
 matplotlib is imported inside each function and drawn on its own Agg canvas
 (no pyplot, no global backend change), so importing opsym never needs it and
@@ -21,12 +21,28 @@ True
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 from typing import Any
 
-from ..errors import BudgetError, MissingDependencyError
+import numpy as np
 
-__all__ = ["contribution_chart", "monte_carlo_histogram", "temperature_chart"]
+from ..errors import (
+    BudgetError,
+    InvalidValueError,
+    MissingDependencyError,
+    NoSolutionError,
+    UnknownNameError,
+)
+
+__all__ = [
+    "bode_chart",
+    "contribution_chart",
+    "gain_error_chart",
+    "monte_carlo_histogram",
+    "noise_density_chart",
+    "temperature_chart",
+]
 
 
 def _figure(width: float = 6.4, height: float = 3.6):
@@ -133,3 +149,325 @@ def monte_carlo_histogram(study: Any, path: Any, *, bins: int = 60) -> Path:
     ax.set_title(f"{study.mc.count} samples, {study.mc.distribution}", fontsize=10)
     ax.legend(fontsize=8)
     return _save(fig, path)
+
+
+# -- frequency response and noise ----------------------------------------------------------
+
+#: Points per decade of the frequency figures.
+_PER_DECADE = 100
+#: The range used when neither the bandwidth nor the poles suggest one, Hz.
+_FALLBACK_RANGE = (1.0, 1e7)
+
+
+def _pole_frequencies(result: Any, sym: Any) -> list[float]:
+    """Frequencies (Hz) of the poles and zeros of one coefficient, when all are numbers."""
+    import sympy as sp
+
+    from ..model.symbols import LAPLACE
+    from .laplace import transfer_parts
+
+    parts = transfer_parts(result.coefficient(sym))
+    if parts is None:
+        return []
+    out = []
+    for poly in (parts.numerator, parts.denominator):
+        if poly.free_symbols - {LAPLACE}:
+            return []
+        p = sp.Poly(poly, LAPLACE)
+        if p.degree() > 0:
+            out += [abs(complex(r)) / (2 * math.pi) for r in p.nroots(n=15, maxsteps=200)]
+    return [f for f in out if f > 0]
+
+
+def _frequency_range(
+    result: Any, sym: Any, f_start: float | None, f_stop: float | None
+) -> tuple[float, float]:
+    """The given range, else three decades below the bandwidth to two above (whole decades).
+
+    Without a bandwidth (no −3 dB point) the poles and zeros decide; without
+    those, 1 Hz to 10 MHz.
+    """
+    if f_start is None or f_stop is None:
+        try:
+            centre_low = centre_high = result.bandwidth(sym)
+        except (InvalidValueError, BudgetError, NoSolutionError):
+            poles = _pole_frequencies(result, sym)
+            centre_low, centre_high = (min(poles), max(poles)) if poles else (None, None)
+        if centre_low is None:
+            low, high = _FALLBACK_RANGE
+        else:
+            low = 10.0 ** math.floor(math.log10(centre_low) - 3)
+            high = 10.0 ** math.ceil(math.log10(centre_high) + 2)
+        f_start = low if f_start is None else f_start
+        f_stop = high if f_stop is None else f_stop
+    f_start, f_stop = float(f_start), float(f_stop)
+    if not (0 < f_start < f_stop) or not math.isfinite(f_stop):
+        raise InvalidValueError(
+            f"frequency range f_start={f_start:g} Hz, f_stop={f_stop:g} Hz: "
+            "give 0 < f_start < f_stop, both finite"
+        )
+    return f_start, f_stop
+
+
+def _need_s(result: Any, what: str) -> None:
+    if getattr(result, "domain", None) != "s":
+        raise InvalidValueError(
+            f"{what} needs a Laplace-domain result; analyse with domain='s' "
+            "(c.analyze(output, values=..., domain='s'))"
+        )
+
+
+def _source(result: Any, source: Any) -> Any:
+    return result._signal(source) if source is None else result._source_symbol(source)
+
+
+def _is_current(result: Any, sym: Any) -> bool:
+    """True when ``sym`` is a current (a current source, a bias current): ``H`` in V/A."""
+    from ..model.elements import CurrentSource
+
+    if sym.name.rsplit(".", 1)[-1] in ("Ib+", "Ib-", "Ib", "Ios", "in+", "in-"):
+        return True
+    try:
+        return isinstance(result.circuit.element(sym.name), CurrentSource)
+    except UnknownNameError:  # an op-amp error source: no element of that name
+        return False
+
+
+def _has_gain_model(result: Any) -> bool:
+    return any(a.gain is not None for a in result.circuit.opamps)
+
+
+def _hertz_axis(ax: Any) -> None:
+    from matplotlib.ticker import FuncFormatter
+
+    from ..numeric.units import format_si
+
+    ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _pos: format_si(v, "Hz", 3)))
+    ax.set_xlabel("frequency")
+
+
+def _output_name(result: Any) -> str:
+    out = result.output
+    return out if isinstance(out, str) else "V(" + ", ".join(out) + ")"
+
+
+def bode_chart(
+    result: Any,
+    path: Any,
+    *,
+    source: Any = None,
+    f_start: float | None = None,
+    f_stop: float | None = None,
+    ideal: bool = True,
+) -> Path:
+    """Magnitude (dB) and phase (degrees) of one coefficient of a ``domain="s"`` result.
+
+    Parameters
+    ----------
+    result : Result
+        A Laplace-domain result with every value but ``s`` given.
+    path : str or Path
+        File to write (``.png``, ``.pdf`` or ``.svg``).
+    source : str, optional
+        The source whose transfer function is drawn (default: the only signal).
+    f_start, f_stop : float, optional
+        Frequency range in Hz (default: three decades below the −3 dB
+        bandwidth to two above, in whole decades; without a bandwidth, from
+        the poles, else 1 Hz to 10 MHz).
+    ideal : bool
+        Overlay the ideal (nullor) response, dashed, when an op-amp has a
+        gain model.
+
+    Returns
+    -------
+    Path
+
+    Examples
+    --------
+    >>> import tempfile, pathlib, opsym
+    >>> c = opsym.Circuit("RC low-pass, buffered")
+    >>> c.voltage_source("Vin", "in", "0")
+    >>> c.resistor("R1", "in", "p", value="10k")
+    >>> c.capacitor("C1", "p", "0", value="10n")
+    >>> c.opamp("U1", plus="p", minus="out", out="out")
+    >>> res = c.analyze("out", domain="s")
+    >>> with tempfile.TemporaryDirectory() as d:
+    ...     bode_chart(res, pathlib.Path(d) / "bode.png").stat().st_size > 0
+    True
+    """
+    return _save(_bode(result, source, f_start, f_stop, ideal), path)
+
+
+def _bode(result: Any, source: Any, f_start: Any, f_stop: Any, ideal: bool) -> Any:
+    """The figure of :func:`bode_chart`, not yet saved (its axes and lines can be read)."""
+    from ..numeric.frequency import frequency_grid
+    from ..numeric.units import format_si
+
+    _need_s(result, "bode_chart")
+    sym = _source(result, source)
+    lo, hi = _frequency_range(result, sym, f_start, f_stop)
+    f = frequency_grid(lo, hi, _PER_DECADE)
+    h = result.response(f, sym)
+    fig = _figure(6.4, 5.2)
+    ax_mag, ax_ph = fig.subplots(2, 1, sharex=True)
+    unit = "dBΩ, re 1 V/A" if _is_current(result, sym) else "dB, re 1 V/V"
+    with np.errstate(divide="ignore"):
+        ax_mag.semilogx(f, 20 * np.log10(np.abs(h)), color="#4c72b0", label="circuit")
+    ax_ph.semilogx(f, np.degrees(np.unwrap(np.angle(h))), color="#4c72b0", label="circuit")
+    if ideal and _has_gain_model(result):
+        h0 = result.response(f, sym, ideal=True)
+        style = {"color": "#dd8452", "linestyle": "--", "label": "ideal op-amp (nullor)"}
+        with np.errstate(divide="ignore"):
+            ax_mag.semilogx(f, 20 * np.log10(np.abs(h0)), **style)
+        ax_ph.semilogx(f, np.degrees(np.unwrap(np.angle(h0))), **style)
+    try:
+        bw = result.bandwidth(sym)
+    except (InvalidValueError, BudgetError, NoSolutionError):
+        bw = None
+    if bw is not None and lo <= bw <= hi:
+        label = f"−3 dB at {format_si(bw, 'Hz', 4)}"
+        for ax in (ax_mag, ax_ph):
+            ax.axvline(bw, color="grey", linewidth=0.8, linestyle=":", label=label)
+    ax_mag.set_ylabel(f"magnitude ({unit})")
+    ax_ph.set_ylabel("phase (°)")
+    _hertz_axis(ax_ph)
+    ax_mag.set_title(f"{result.circuit.title}: {_output_name(result)} / {sym}", fontsize=10)
+    for ax in (ax_mag, ax_ph):
+        ax.grid(which="both", alpha=0.3)
+    ax_mag.legend(fontsize=8)
+    return fig
+
+
+def gain_error_chart(
+    result: Any,
+    path: Any,
+    *,
+    signal: Any = None,
+    f_start: float | None = None,
+    f_stop: float | None = None,
+) -> Path:
+    """``|H/H_ideal − 1|`` against frequency, log-log, in % (or ppm when below 0.1 %).
+
+    ``H_ideal`` is the nullor limit, so the curve is the error the op-amp's
+    gain model causes; the dotted line is its DC value. The range defaults
+    as in :func:`bode_chart`.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib, opsym
+    >>> c = opsym.Circuit("follower")
+    >>> c.voltage_source("Vin", "p", "0")
+    >>> c.opamp("U1", plus="p", minus="out", out="out", gain="pole")
+    >>> res = c.analyze("out", domain="s", values={"U1.A0": "100k", "U1.GBW": "1M"})
+    >>> with tempfile.TemporaryDirectory() as d:
+    ...     gain_error_chart(res, pathlib.Path(d) / "err.svg").suffix
+    '.svg'
+    """
+    return _save(_gain_error(result, signal, f_start, f_stop), path)
+
+
+def _gain_error(result: Any, signal: Any, f_start: Any, f_stop: Any) -> Any:
+    """The figure of :func:`gain_error_chart`, not yet saved."""
+    from ..numeric.frequency import frequency_grid
+
+    _need_s(result, "gain_error_chart")
+    if not _has_gain_model(result):
+        raise BudgetError(
+            "gain_error_chart: every op-amp is ideal, so the gain error is zero; "
+            "declare an op-amp with gain='pole' or gain='finite'"
+        )
+    sym = result._signal(signal)
+    lo, hi = _frequency_range(result, sym, f_start, f_stop)
+    f = frequency_grid(lo, hi, _PER_DECADE)
+    err = np.abs(result.gain_error_response(f, sym))
+    dc = float(np.abs(result.gain_error_response(np.array([0.0]), sym))[0])
+    if not np.any(err > 0):
+        raise BudgetError("gain_error_chart: the gain error is zero over the whole range")
+    scale, unit = (1e6, "ppm") if float(np.max(err)) < 1e-3 else (100.0, "%")
+    fig = _figure()
+    ax = fig.add_subplot()
+    ax.loglog(f, np.where(err > 0, err * scale, np.nan), color="#c44e52",
+              label="|H/H_ideal − 1|")  # fmt: skip
+    if dc > 0:
+        ax.axhline(dc * scale, color="grey", linewidth=0.8, linestyle=":",
+                   label=f"at DC: {dc * scale:.4g} {unit}")  # fmt: skip
+    ax.set_ylabel(f"|gain error| ({unit})")
+    _hertz_axis(ax)
+    ax.set_title(f"{result.circuit.title}: gain error from {sym}", fontsize=10)
+    ax.grid(which="both", alpha=0.3)
+    ax.legend(fontsize=8)
+    return fig
+
+
+def _noise_label(noise_result: Any, name: str) -> str:
+    what = noise_result.source(name).what
+    kind = what.split(" noise")[0]  # "thermal", "voltage", "current"
+    return f"{name} ({kind} noise)"
+
+
+def noise_density_chart(
+    noise_result: Any,
+    path: Any,
+    *,
+    f_start: float = 1.0,
+    f_stop: float = 1e6,
+    top: int | None = None,
+) -> Path:
+    """Total output noise density (V/√Hz) and each source's part, log-log.
+
+    Sources are ranked by their noise power over the range; ``top`` keeps
+    the largest ``top`` and adds the rest in power as "others". Sources that
+    do not reach the output are left out.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib, opsym
+    >>> c = opsym.Circuit("inverting x10")
+    >>> c.voltage_source("Vin", "in", "0")
+    >>> c.resistor("R1", "in", "n", value="1k")
+    >>> c.resistor("R2", "n", "out", value="10k")
+    >>> c.opamp("U1", plus="0", minus="n", out="out", bias=False)
+    >>> n = c.noise("out", values={"U1.en": "8n", "U1.in": "1p"})
+    >>> with tempfile.TemporaryDirectory() as d:
+    ...     noise_density_chart(n, pathlib.Path(d) / "noise.png", top=2).suffix
+    '.png'
+    """
+    return _save(_noise_density(noise_result, f_start, f_stop, top), path)
+
+
+def _noise_density(noise_result: Any, f_start: float, f_stop: float, top: int | None) -> Any:
+    """The figure of :func:`noise_density_chart`, not yet saved."""
+    from ..numeric.frequency import frequency_grid
+    from ..numeric.units import format_si
+
+    if top is not None and (isinstance(top, bool) or not isinstance(top, int) or top < 1):
+        raise BudgetError(f"noise_density_chart: top={top!r}; give a whole number >= 1 or None")
+    f = frequency_grid(f_start, f_stop, _PER_DECADE // 2)
+    parts = {n: np.asarray(d, dtype=float) for n, d in noise_result.contributions(f).items()}
+    power = {n: float(np.sum((d[1:] ** 2 + d[:-1] ** 2) * np.diff(f))) for n, d in parts.items()}
+    ranked = sorted((n for n in parts if power[n] > 0), key=lambda n: -power[n])
+    if not ranked:
+        raise BudgetError("noise_density_chart: no noise source reaches the output")
+    shown, rest = (ranked, []) if top is None else (ranked[:top], ranked[top:])
+    fig = _figure()
+    ax = fig.add_subplot()
+    total = np.sqrt(sum(d**2 for d in parts.values()))
+    ax.loglog(f, total, color="black", linewidth=2, label="total (root-sum-square)")
+    for name in shown:
+        ax.loglog(f, parts[name], linewidth=1, label=_noise_label(noise_result, name))
+    if rest:
+        others = np.sqrt(sum(parts[n] ** 2 for n in rest))
+        count = f"{len(rest)} source" + ("s" if len(rest) > 1 else "")
+        ax.loglog(f, others, linewidth=1, linestyle="--", color="grey",
+                  label=f"others ({count}, in power)")  # fmt: skip
+    from matplotlib.ticker import FuncFormatter
+
+    ax.yaxis.set_major_formatter(FuncFormatter(lambda v, _pos: format_si(v, "V/√Hz", 3)))
+    ax.set_ylabel("output noise density")
+    _hertz_axis(ax)
+    celsius = noise_result.temperature - 273.15
+    ax.set_title(f"{noise_result.circuit.title}: noise at {_output_name(noise_result)}, "
+                 f"{celsius:g} °C", fontsize=10)  # fmt: skip
+    ax.grid(which="both", alpha=0.3)
+    ax.legend(fontsize=8)
+    return fig

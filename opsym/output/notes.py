@@ -3,8 +3,10 @@ r"""A complete design-note section, in LaTeX or Markdown.
 The note has: the circuit (element list), the conventions, the symbolic terms
 (every source's coefficient), the conditions (nulls and the standard values
 chosen for them), the numeric budget and any tolerance or temperature studies,
-figures, and the usual caution. ``standalone=True`` wraps the LaTeX in a
-document that pdflatex compiles with ``amsmath``, ``booktabs`` and ``graphicx``.
+optionally a frequency-response and a noise section
+(:mod:`opsym.output.sections`), figures, and the usual caution, always last.
+``standalone=True`` wraps the LaTeX in a document that pdflatex compiles with
+``amsmath``, ``booktabs`` and ``graphicx``.
 
 Examples
 --------
@@ -31,6 +33,7 @@ from ..analyses.present import trade_form
 from ..errors import BudgetError
 from ..model.symbols import latex_name
 from ..numeric.units import format_si, parse_quantity
+from .sections import FrequencySection, NoiseSection
 from .tables import latex_text
 
 __all__ = ["CAUTION", "CONVENTIONS", "design_note"]
@@ -51,7 +54,38 @@ CONVENTIONS = (
     "The PSRR error is dVs/PSRR, dVs the change of the total supply span.",
 )
 
-_UNITS = {"resistor": "Ω", "capacitor": "F", "voltage source": "V", "current source": "A"}
+_UNITS = {
+    "resistor": "Ω",
+    "capacitor": "F",
+    "inductor": "H",
+    "voltage source": "V",
+    "current source": "A",
+}
+#: Units of the op-amp parameters shown beside the op-amp in the element list.
+_OPAMP_UNITS = {
+    "A0": "", "GBW": "Hz", "A": "", "en": "V/√Hz", "in": "A/√Hz", "fce": "Hz", "fci": "Hz",
+    "Vos": "V", "Ib+": "A", "Ib-": "A", "Ib": "A", "Ios": "A",
+}  # fmt: skip
+
+
+def _opamp_text(amp: Any, given: Mapping[str, Any]) -> str:
+    """The gain model, the error-source kinds and the op-amp's given parameters."""
+    from ..model.nonideal import SinglePole
+
+    if amp.gain is None:
+        gain = "ideal (nullor)"
+    elif sp.simplify(amp.gain - SinglePole().gain(amp.name)) == 0:
+        gain = "single-pole open-loop gain A0/(1 + s·A0/(2π·GBW))"
+    else:
+        gain = f"open-loop gain {amp.gain}"
+    kinds = ", ".join(n.kind for n in amp.nonideals) or "none"
+    shown = []
+    for what, unit in _OPAMP_UNITS.items():
+        key = f"{amp.name}.{what}"
+        if key in given:
+            number = parse_quantity(given[key], where=key)
+            shown.append(f"{what} = " + (format_si(number, unit) if unit else f"{number:g}"))
+    return f"; {gain}; error sources: {kinds}" + ("; " + ", ".join(shown) if shown else "")
 
 
 def _element_lines(circuit: Any, values: Mapping[Any, Any]) -> list[str]:
@@ -69,9 +103,7 @@ def _element_lines(circuit: Any, values: Mapping[Any, Any]) -> list[str]:
             elif not (isinstance(value, sp.Symbol) and value.name == e.name):
                 text += f" = {value}"
         if e.kind == "op-amp":
-            gain = "ideal (nullor)" if e.gain is None else f"open-loop gain {e.gain}"
-            kinds = ", ".join(n.kind for n in e.nonideals) or "none"
-            text += f"; {gain}; error sources: {kinds}"
+            text += _opamp_text(e, given)
         lines.append(text)
     return lines
 
@@ -102,6 +134,8 @@ def design_note(
     studies: Iterable[Any] = (),
     sweep: Any = None,
     figures: Iterable[Any] = (),
+    frequency: FrequencySection | None = None,
+    noise: NoiseSection | None = None,
     fmt: str = "latex",
     standalone: bool = False,
 ) -> str:
@@ -127,6 +161,11 @@ def design_note(
         A temperature sweep to tabulate.
     figures : iterable of (path, caption) or path
         Figure files to include.
+    frequency : FrequencySection, optional
+        Transfer function, bandwidth, response table and figures of a
+        ``domain="s"`` result.
+    noise : NoiseSection, optional
+        Noise transfer functions, budget, peak-to-peak estimate and figures.
     fmt : {"latex", "markdown"}
     standalone : bool
         LaTeX only: wrap in a complete document.
@@ -137,6 +176,17 @@ def design_note(
     """
     if fmt not in ("latex", "markdown"):
         raise BudgetError(f"design_note: fmt {fmt!r} is not known; use 'latex' or 'markdown'")
+    if frequency is not None and not isinstance(frequency, FrequencySection):
+        raise BudgetError(
+            "design_note: frequency= takes a FrequencySection; "
+            "wrap the result: FrequencySection(result, figures=[...])"
+        )
+    if noise is not None and not isinstance(noise, NoiseSection):
+        raise BudgetError(
+            "design_note: noise= takes a NoiseSection; "
+            "wrap the noise result and band: NoiseSection(noise, f_low, f_high)"
+        )
+    extra = [s for s in (frequency, noise) if s is not None]
     circuit = getattr(result, "circuit", None)
     title = title or f"Design note: {getattr(circuit, 'title', '') or 'circuit'}"
     shown = result
@@ -166,6 +216,8 @@ def design_note(
                 out += [t, ""]
             if sweep is not None:
                 out += [sweep.to_markdown(), ""]
+        for section in extra:
+            out += ["", section.markdown()]
         for path, caption in figs:
             out += ["", f"![{caption or path.stem}]({path.as_posix()})"]
         out += ["", "### Caution", "", CAUTION, ""]
@@ -200,6 +252,7 @@ def design_note(
             if t.caption:
                 body += [r"\textbf{" + latex_text(t.caption) + r"}\par\smallskip"]
             body += [t.to_latex(float_env=False), r"\end{center}"]
+    body += [section.latex() for section in extra]
     for path, caption in figs:
         body += [
             r"\begin{center}",

@@ -58,6 +58,7 @@ _LATEX_SPECIAL = {
     "∂": r"$\partial$",
     "∞": r"$\infty$",
     "Δ": r"$\Delta$",
+    "π": r"$\pi$",
     "²": r"\textsuperscript{2}",
     "·": r"$\cdot$",
     "§": r"\S{}",
