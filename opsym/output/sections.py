@@ -1,0 +1,253 @@
+r"""The frequency-response and noise sections of a design note, in LaTeX or Markdown.
+
+A :class:`FrequencySection` holds a ``domain="s"`` result and writes its
+transfer function, its −3 dB bandwidth, a table of the response and the gain
+error at a few frequencies, and any figures. A :class:`NoiseSection` holds a
+noise result and a band and writes the noise sum with every ``H_k(s)``, the
+budget table and the peak-to-peak estimate. :func:`~opsym.output.notes.design_note`
+places them after the numeric budget and before the caution.
+
+Examples
+--------
+>>> import opsym
+>>> c = opsym.Circuit("inverting x10")
+>>> c.voltage_source("Vin", "in", "0")
+>>> c.resistor("R1", "in", "n", value="2k")
+>>> c.resistor("R2", "n", "out", value="20k")
+>>> c.opamp("U1", plus="0", minus="n", out="out", gain="pole", bias=False)
+>>> res = c.analyze("out", domain="s", values={"U1.A0": "200k", "U1.GBW": "3M"})
+>>> md = FrequencySection(res).markdown()
+>>> [line for line in md.splitlines() if line.startswith("- Bandwidth")]
+['- Bandwidth (−3 dB): 272.7 kHz.']
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from ..errors import BudgetError, InvalidValueError, NoSolutionError
+from ..numeric.units import format_si
+from .latex import transfer_latex
+from .noise import noise_latex, noise_table
+from .tables import Table, latex_text
+
+__all__ = ["FrequencySection", "NoiseSection", "response_table"]
+
+
+def _figure_list(figures: Iterable[Any]) -> tuple[tuple[Path, str], ...]:
+    return tuple(
+        (Path(f[0]), str(f[1])) if isinstance(f, tuple) else (Path(f), "") for f in figures
+    )
+
+
+def _figures_latex(figures: Iterable[tuple[Path, str]]) -> list[str]:
+    out = []
+    for path, caption in figures:
+        out += [
+            r"\begin{center}",
+            r"\includegraphics[width=0.8\linewidth]{" + path.as_posix() + "}",
+        ]
+        if caption:
+            out.append(r"\par\smallskip " + latex_text(caption))
+        out.append(r"\end{center}")
+    return out
+
+
+def _figures_markdown(figures: Iterable[tuple[Path, str]]) -> list[str]:
+    return [f"![{caption or path.stem}]({path.as_posix()})" for path, caption in figures]
+
+
+def _table_latex(table: Table) -> list[str]:
+    """The table with its caption in one unbreakable block (a minipage), centred, in place."""
+    out = [r"\begin{center}", r"\begin{minipage}{\linewidth}", r"\centering"]
+    if table.caption:
+        out.append(r"\textbf{" + latex_text(table.caption) + r"}\par\smallskip")
+    return [*out, table.to_latex(float_env=False), r"\end{minipage}", r"\end{center}"]
+
+
+def _fraction_text(x: float) -> str:
+    """A small fraction the way the trade quotes it: ppm below 0.1 %, else %."""
+    if abs(x) < 1e-3:
+        return f"{x * 1e6:.3g} ppm"
+    return f"{x * 100:.4g} %"
+
+
+def _default_points(bandwidth: float | None) -> tuple[float, ...]:
+    """DC, the whole decades from three below the bandwidth, and the bandwidth itself."""
+    if bandwidth is None:
+        return (0.0, 10.0, 100.0, 1e3, 1e4, 1e5)
+    top = math.floor(math.log10(bandwidth))
+    decades = [10.0**k for k in range(top - 3, top + 1) if 10.0**k < bandwidth]
+    return (0.0, *decades, bandwidth)
+
+
+def response_table(result: Any, points: Iterable[float], source: Any = None) -> Table:
+    """``|H|``, phase and (with an op-amp gain model) ``|H/H_ideal − 1|`` at ``points`` Hz.
+
+    Examples
+    --------
+    >>> import opsym
+    >>> c = opsym.Circuit("follower")
+    >>> c.voltage_source("Vin", "p", "0")
+    >>> c.opamp("U1", plus="p", minus="out", out="out", gain="pole")
+    >>> res = c.analyze("out", domain="s", values={"U1.A0": "100k", "U1.GBW": "1M"})
+    >>> print(response_table(res, [0, 1e4]).to_text())
+    Response of out to Vin
+    frequency          |H|   phase  |H/H_ideal − 1|
+    ---------  -----------  ------  ---------------
+         0 Hz  0.99999 V/V   0.00°           10 ppm
+       10 kHz  0.99994 V/V  -0.57°         0.9999 %
+    """
+    from .figures import _has_gain_model, _is_current
+
+    sym = result._signal(source) if source is None else result._source_symbol(source)
+    f = np.asarray([float(p) for p in points], dtype=float)
+    if f.size == 0 or np.any(f < 0) or not np.all(np.isfinite(f)):
+        raise InvalidValueError(
+            "frequency points: give one or more finite frequencies >= 0 Hz, e.g. [0, 1e3, 1e4]"
+        )
+    h = result.response(f, sym)
+    unit = "Ω" if _is_current(result, sym) else "V/V"
+    with_error = _has_gain_model(result) and sym in result.signals
+    errors = np.abs(result.gain_error_response(f, sym)) if with_error else None
+    rows = []
+    for i, fi in enumerate(f):
+        mag = abs(complex(h[i]))
+        mag_text = format_si(mag, "Ω", 5) if unit == "Ω" else f"{mag:.6g} V/V"
+        row = [format_si(fi, "Hz", 4), mag_text, f"{math.degrees(np.angle(h[i])):.2f}°"]
+        if errors is not None:
+            row.append(_fraction_text(float(errors[i])))
+        rows.append(tuple(row))
+    headers = ["frequency", "|H|", "phase"] + (["|H/H_ideal − 1|"] if with_error else [])
+    out = result.output if isinstance(result.output, str) else "-".join(result.output)
+    return Table(tuple(headers), tuple(rows), "r" * len(headers), f"Response of {out} to {sym}")
+
+
+@dataclass(frozen=True)
+class FrequencySection:
+    """Transfer function, bandwidth, response table and figures of a ``domain="s"`` result.
+
+    Parameters
+    ----------
+    result : Result
+        A Laplace-domain result with every value but ``s`` given.
+    source : str, optional
+        The source whose transfer function is shown (default: the only signal).
+    points : iterable of float, optional
+        Frequencies (Hz) of the table (default: DC, whole decades from three
+        below the bandwidth, and the bandwidth).
+    figures : iterable of (path, caption) or path
+        Figures to include (e.g. from :func:`~opsym.output.figures.bode_chart`).
+    """
+
+    result: Any
+    source: Any = None
+    points: Iterable[float] | None = None
+    figures: Iterable[Any] = ()
+    _bandwidth: float | None = field(default=None, init=False, repr=False)
+
+    def __post_init__(self) -> None:
+        if getattr(self.result, "domain", None) != "s":
+            raise InvalidValueError(
+                "FrequencySection needs a Laplace-domain result; analyse with domain='s'"
+            )
+        object.__setattr__(self, "figures", _figure_list(self.figures))
+        try:
+            bw: float | None = self.result.bandwidth(self._symbol())
+        except (InvalidValueError, NoSolutionError):
+            bw = None  # no −3 dB point (a high-pass, an all-pass): the note says so
+        object.__setattr__(self, "_bandwidth", bw)
+        points = _default_points(bw) if self.points is None else tuple(self.points)
+        object.__setattr__(self, "points", tuple(float(p) for p in points))
+
+    def _symbol(self) -> Any:
+        if self.source is None:
+            return self.result._signal(None)
+        return self.result._source_symbol(self.source)
+
+    @property
+    def bandwidth(self) -> float | None:
+        """The −3 dB bandwidth in Hz, or ``None`` when ``|H|`` never falls 3 dB."""
+        return self._bandwidth
+
+    def table(self) -> Table:
+        """The response table (:func:`response_table`) at :attr:`points`."""
+        return response_table(self.result, self.points or (), self.source)
+
+    def _bandwidth_text(self) -> str:
+        if self._bandwidth is None:
+            return "Bandwidth: |H| does not fall 3 dB below its DC value."
+        return f"Bandwidth (−3 dB): {format_si(self._bandwidth, 'Hz', 4)}."
+
+    def latex(self) -> str:
+        """The section as LaTeX (needs ``amsmath``, ``booktabs``, ``graphicx``)."""
+        out = [r"\subsection*{Frequency response}", r"\[", transfer_latex(self.result,
+               self.source), r"\]", latex_text(self._bandwidth_text())]  # fmt: skip
+        out += _table_latex(self.table())
+        out += _figures_latex(self.figures)  # type: ignore[arg-type]  # normalised above
+        return "\n".join(out)
+
+    def markdown(self) -> str:
+        """The section as Markdown, formulas in ``$$`` blocks."""
+        out = ["### Frequency response", "", "$$", transfer_latex(self.result, self.source), "$$"]
+        out += ["", f"- {self._bandwidth_text()}", "", self.table().to_markdown()]
+        for line in _figures_markdown(self.figures):  # type: ignore[arg-type]
+            out += ["", line]
+        return "\n".join(out)
+
+
+@dataclass(frozen=True)
+class NoiseSection:
+    """Noise transfer functions, the budget over ``f_low``–``f_high`` Hz and figures.
+
+    Parameters
+    ----------
+    noise : NoiseResult
+        From :meth:`opsym.Circuit.noise`, with every density given.
+    f_low, f_high : float
+        The band in hertz (``f_high`` may be ``inf``).
+    figures : iterable of (path, caption) or path
+        Figures to include (e.g. from :func:`~opsym.output.figures.noise_density_chart`).
+    """
+
+    noise: Any
+    f_low: float
+    f_high: float
+    figures: Iterable[Any] = ()
+    budget: Any = field(default=None, init=False)
+
+    def __post_init__(self) -> None:
+        if not hasattr(self.noise, "budget"):
+            raise BudgetError(
+                "NoiseSection needs a noise result; build it with circuit.noise(output, values)"
+            )
+        object.__setattr__(self, "figures", _figure_list(self.figures))
+        object.__setattr__(self, "budget", self.noise.budget(self.f_low, self.f_high))
+
+    _INTRO = (
+        "The noise sources are uncorrelated, so their powers add at the output. "
+        "Each resistor carries its thermal noise voltage in series (4kTR); op-amp "
+        "voltage noise is in series with the + pin and current noise flows into each pin."
+    )
+
+    def latex(self) -> str:
+        """The section as LaTeX."""
+        out = [r"\subsection*{Noise}", latex_text(self._INTRO), r"\["]
+        out += [noise_latex(self.noise), r"\]"]
+        out += _table_latex(noise_table(self.budget))
+        out += _figures_latex(self.figures)  # type: ignore[arg-type]  # normalised above
+        return "\n".join(out)
+
+    def markdown(self) -> str:
+        """The section as Markdown."""
+        out = ["### Noise", "", self._INTRO, "", "$$", noise_latex(self.noise), "$$", ""]
+        out += [noise_table(self.budget).to_markdown()]
+        for line in _figures_markdown(self.figures):  # type: ignore[arg-type]
+            out += ["", line]
+        return "\n".join(out)
