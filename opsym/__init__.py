@@ -71,7 +71,9 @@ from .numeric import (
     resistor_parameters,
     tolerance_analysis,
 )
-from .output import design_note
+from .output import FrequencySection, NoiseSection, design_note
+from .output.latex import transfer_latex
+from .output.noise import noise_latex
 
 __version__ = "0.1.0"
 
@@ -89,6 +91,7 @@ __all__ = [
     "DesignFileError",
     "DuplicateNameError",
     "FloatingNodeError",
+    "FrequencySection",
     "InputOffset",
     "InvalidValueError",
     "MissingDependencyError",
@@ -96,6 +99,7 @@ __all__ = [
     "NoSolutionError",
     "NoiseBudget",
     "NoiseResult",
+    "NoiseSection",
     "NonIdeal",
     "OpAmpParams",
     "OpsymError",
@@ -120,6 +124,7 @@ __all__ = [
     "format_si",
     "load_design",
     "monte_carlo",
+    "noise_latex",
     "opamp_parameters",
     "parse_design",
     "parse_quantity",
@@ -128,4 +133,5 @@ __all__ = [
     "resistor_parameters",
     "s",
     "tolerance_analysis",
+    "transfer_latex",
 ]
