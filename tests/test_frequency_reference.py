@@ -14,7 +14,6 @@ name their sources.
 from __future__ import annotations
 
 import math
-import os
 
 import circuits
 import circuits_ac
@@ -24,13 +23,13 @@ import numpy as np
 import pytest
 import sympy as sp
 from compare import evaluate
-from hypothesis import HealthCheck, assume, event, given, settings
+from drawing import DrawPicker, example_settings
+from hypothesis import assume, event, given
 from hypothesis import strategies as st
 
 import opsym
 from opsym.numeric.frequency import evaluator
 
-SCALE = int(os.environ.get("OPSYM_HYPOTHESIS_SCALE", "1"))
 K_BOLTZMANN = 1.380649e-23  # J/K, exact: BIPM SI Brochure, 9th ed. (2019) [pub]
 T_25C = 298.15
 
@@ -38,41 +37,15 @@ REL = 1e-9  # relative agreement of every transfer
 # Absolute floors, as fractions of the largest node voltage of the reference run
 # (a transfer that is nearly zero by cancellation is only known to that level):
 FLOOR = 1e-12  # collected forms (coefficient(), NoiseResult.transfer) in float64
-# Result.response evaluates the coefficient as solved (a sum over paths) in float64;
-# where the paths cancel it loses digits relative to the run's scale. Measured over
-# 1200 random transfers: at most 5e-13 of the scale.
-FLOOR_RESPONSE = 1e-11
+# Result.response evaluates a sum over paths in its collected form too, so the same
+# floor holds (before that fix the as-solved sum lost up to 5e-13 of the scale).
 REL_EXACT = 1e-20  # the exact form at 30 digits against the 40-digit reference
 _NOISE = (".en", ".in+", ".in-")
 
 
-def _settings(n: int):
-    return settings(
-        max_examples=n * SCALE,
-        deadline=None,
-        suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much],
-    )
-
-
-class _DrawPicker:
-    """The picker protocol of ``circuits.random_circuit`` over Hypothesis draws."""
-
-    def __init__(self, draw):
-        self._draw = draw
-
-    def int(self, lo, hi):
-        return self._draw(st.integers(lo, hi))
-
-    def choice(self, seq):
-        return self._draw(st.sampled_from(list(seq)))
-
-    def coin(self, p=0.5):
-        return self._draw(st.integers(0, 99)) < round(100 * p)
-
-
 @st.composite
 def ac_networks(draw, max_opamps=3):
-    desc, output, symbolic = circuits_ac.random_ac_circuit(_DrawPicker(draw), max_opamps)
+    desc, output, symbolic = circuits_ac.random_ac_circuit(DrawPicker(draw), max_opamps)
     cmrr = draw(st.integers(0, 99)) < 25
     return desc, output, symbolic, {"cmrr": True} if cmrr else {}
 
@@ -158,7 +131,7 @@ def test_reference_thermal_source_polarity():
 # -- the property tests ----------------------------------------------------------------
 
 
-@_settings(60)
+@example_settings(60)
 @given(ac_networks(), frequencies)
 def test_s_domain_coefficients_match_reference(case, freqs):
     desc, output, symbolic, options = case
@@ -180,7 +153,7 @@ def test_s_domain_coefficients_match_reference(case, freqs):
         for source in res.terms:
             want, scale = ref[source.name]
             got = complex(res.response(f, source=source)[()])
-            assert _close(got, want, scale, floor=FLOOR_RESPONSE), (source, f, got, want)
+            assert _close(got, want, scale, floor=FLOOR), (source, f, got, want)
             collected = complex(evaluator(res.coefficient(source), "H")(f)[()])
             assert _close(collected, want, scale), (source, f, collected, want)
     # the exact form, at 30 digits, at one frequency
@@ -192,7 +165,7 @@ def test_s_domain_coefficients_match_reference(case, freqs):
         assert _close(got, want, scale, REL_EXACT, 1e-25), (source, f, got, want)
 
 
-@_settings(30)
+@example_settings(30)
 @given(ac_networks(max_opamps=2), frequencies)
 def test_noise_transfers_and_density_match_reference(case, freqs):
     desc, output, symbolic, _ = case
@@ -224,7 +197,7 @@ def _value(c, name):
     return float(c.element(name).value)
 
 
-@_settings(30)
+@example_settings(30)
 @given(ac_networks(max_opamps=2))
 def test_dc_result_is_the_s_domain_result_at_zero(case):
     desc, output, symbolic, _ = case

@@ -12,51 +12,25 @@ here are [derived]: KCL and superposition, no published number.
 
 from __future__ import annotations
 
-import os
-
 import circuits
 import nodal
 import pytest
 import sympy as sp
 from compare import close, evaluate
-from hypothesis import HealthCheck, assume, event, given, settings
+from drawing import DrawPicker, example_settings
+from hypothesis import assume, event, given
 from hypothesis import strategies as st
 
 import opsym
 
-SCALE = int(os.environ.get("OPSYM_HYPOTHESIS_SCALE", "1"))
 REL = 1e-9  # relative agreement of every coefficient
 FLOOR = 1e-12  # absolute floor, as a fraction of the largest node voltage of that run
-
-
-def _settings(n: int):
-    return settings(
-        max_examples=n * SCALE,
-        deadline=None,
-        suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much],
-    )
-
-
-class _DrawPicker:
-    """The picker protocol of ``circuits.random_circuit`` over Hypothesis draws."""
-
-    def __init__(self, draw):
-        self._draw = draw
-
-    def int(self, lo, hi):
-        return self._draw(st.integers(lo, hi))
-
-    def choice(self, seq):
-        return self._draw(st.sampled_from(list(seq)))
-
-    def coin(self, p=0.5):
-        return self._draw(st.integers(0, 99)) < round(100 * p)
 
 
 @st.composite
 def networks(draw, max_opamps=3, finite=None, tame=False):
     return circuits.random_circuit(
-        _DrawPicker(draw), max_opamps=max_opamps, finite=finite, tame=tame
+        DrawPicker(draw), max_opamps=max_opamps, finite=finite, tame=tame
     )
 
 
@@ -80,7 +54,7 @@ def _check_terms(res, circuit, desc, symbolic, ref):
 # -- the core property ---------------------------------------------------------------
 
 
-@_settings(400)
+@example_settings(400)
 @given(networks())
 def test_every_term_matches_reference(case):
     desc, output, symbolic = case
@@ -91,7 +65,7 @@ def test_every_term_matches_reference(case):
     _check_terms(res, c, desc, symbolic, ref)
 
 
-@_settings(60)
+@example_settings(60)
 @given(networks(max_opamps=2, finite=True))
 def test_symbolic_gain_terms_match_reference(case):
     # every finite op-amp keeps its gain symbol U*.A, plus up to two symbolic parts
@@ -104,7 +78,7 @@ def test_symbolic_gain_terms_match_reference(case):
     _check_terms(res, c, desc, symbolic, ref)
 
 
-@_settings(40)
+@example_settings(40)
 @given(networks(), st.data())
 def test_values_fixed_before_solving_agree(case, data):
     # analyze(values=...) and subs() afterwards give the same numbers as the reference
@@ -129,7 +103,7 @@ def test_values_fixed_before_solving_agree(case, data):
 # -- derived views of the result ----------------------------------------------------------
 
 
-@_settings(40)
+@example_settings(40)
 @given(networks(max_opamps=2))
 def test_expression_is_the_superposition(case):
     desc, output, symbolic = case
@@ -153,7 +127,7 @@ def test_expression_is_the_superposition(case):
     )
 
 
-@_settings(40)
+@example_settings(40)
 @given(networks(max_opamps=2))
 def test_average_bias_rewrites_exactly(case):
     # Ib± = Ib ± Ios/2  =>  c(Ib) = c(Ib+) + c(Ib-),  c(Ios) = (c(Ib+) - c(Ib-))/2
@@ -180,7 +154,7 @@ def test_average_bias_rewrites_exactly(case):
         assert close(got, (wp - wm) / 2, REL, FLOOR * scale)
 
 
-@_settings(30)
+@example_settings(30)
 @given(networks(max_opamps=2))
 def test_cmrr_and_psrr_act_like_offset(case):
     # [derived] by the convention: Vcm/CMRR and dVs/PSRR sit in series with the + pin,
@@ -208,7 +182,7 @@ def _all_ideal(desc):
     return [(*it[:5], None, *it[6:]) if it[0] == "OA" else it for it in desc]
 
 
-@_settings(40)
+@example_settings(40)
 @given(networks(max_opamps=2, finite=True), st.booleans())
 def test_ideal_limit_matches_nullor_reference(case, symbolic_gain):
     desc, output, symbolic = case
@@ -229,7 +203,7 @@ def test_ideal_limit_matches_nullor_reference(case, symbolic_gain):
         assert close(got, want, REL, FLOOR * scale), (name, got, want)
 
 
-@_settings(30)
+@example_settings(30)
 @given(networks(max_opamps=2, finite=True, tame=True))
 def test_gain_error_matches_reference(case):
     desc, output, symbolic = case
@@ -249,7 +223,7 @@ def test_gain_error_matches_reference(case):
     assert close(got, want, 1e-7, 1e-12), (got, want)
 
 
-@_settings(30)
+@example_settings(30)
 @given(networks(max_opamps=2, tame=True))
 def test_input_referred_is_a_ratio(case):
     desc, output, symbolic = case
@@ -270,7 +244,7 @@ def test_input_referred_is_a_ratio(case):
         assert close(got, want / g, 1e-8, 1e-12 * scale / abs(g)), name
 
 
-@_settings(30)
+@example_settings(30)
 @given(networks(max_opamps=2, tame=True), st.data())
 def test_sensitivity_matches_finite_differences(case, data):
     # S(y, x) = (x/y)·dy/dx by a central difference of the exact reference
@@ -296,7 +270,7 @@ def test_sensitivity_matches_finite_differences(case, data):
     assert close(got, want, 1e-5, 1e-7), (part, src, got, want)
 
 
-@_settings(60)
+@example_settings(60)
 @given(networks(max_opamps=2), st.data())
 def test_null_matches_the_reference_zero(case, data):
     # null(source, by=R): the reference finds the zero of the (bilinear) coefficient
@@ -335,7 +309,7 @@ def bias_nulls(draw):
     return desc, output
 
 
-@_settings(40)
+@example_settings(40)
 @given(bias_nulls(), st.sampled_from(["U1.Ib", "U1.Ib", "U1.Ib+", "U1.Ib-", "U1.Vos"]))
 def test_null_through_a_plus_pin_resistor(case, src):
     # a resistor in series with the + pin: the common way to null the bias term
@@ -401,7 +375,7 @@ _EXPECTED = {
 }
 
 
-@_settings(60)
+@example_settings(60)
 @given(singular_networks())
 def test_singular_circuits_raise(case):
     # output inside the singular part: a specific error naming the culprit
@@ -414,7 +388,7 @@ def test_singular_circuits_raise(case):
         c.analyze(inside)
 
 
-@_settings(40)
+@example_settings(40)
 @given(singular_networks())
 def test_singular_part_elsewhere_still_raises(case):
     # the circuit has no unique DC solution even when the asked-for output lies in
@@ -425,7 +399,7 @@ def test_singular_part_elsewhere_still_raises(case):
         c.analyze(elsewhere)
 
 
-@_settings(40)
+@example_settings(40)
 @given(networks())
 def test_drawn_singular_circuits_raise(case):
     # the generator's own singular draws (degenerate op-amp loops), where the

@@ -109,11 +109,15 @@ def netlist(
     return "\n".join(lines), back
 
 
-def operating_point(
-    desc: Sequence[Sequence[Any]], ideal_gain: float = IDEAL_GAIN, timeout: float = 30
-) -> dict[str, float]:
-    """Run ``ngspice -b`` on the circuit; return every node voltage (ground included)."""
-    text, back = netlist(desc, ideal_gain=ideal_gain)
+def run_batch(
+    text: str, timeout: float = 30, read: Sequence[str] = ()
+) -> tuple[str, dict[str, str]]:
+    """Run ``ngspice -b`` on the netlist ``text`` in a scratch directory.
+
+    Returns its standard output and the text of each file in ``read`` that the
+    run wrote there (``wrdata`` tables). A failed or singular run raises
+    :class:`SpiceError` with the netlist.
+    """
     with tempfile.TemporaryDirectory() as tmp:
         path = os.path.join(tmp, "circuit.cir")
         with open(path, "w") as fh:
@@ -126,11 +130,25 @@ def operating_point(
             cwd=tmp,
             check=False,
         )
-    out = run.stdout
-    if run.returncode != 0 or "singular" in (out + run.stderr).lower():
-        raise SpiceError(
-            f"ngspice failed (exit {run.returncode}):\n{run.stderr}\n{out}\n--- netlist\n{text}"
-        )
+        out = run.stdout
+        if run.returncode != 0 or "singular" in (out + run.stderr).lower():
+            raise SpiceError(
+                f"ngspice failed (exit {run.returncode}):\n{run.stderr}\n{out}"
+                f"\n--- netlist\n{text}"
+            )
+        files = {}
+        for name in read:
+            with open(os.path.join(tmp, name)) as fh:
+                files[name] = fh.read()
+    return out, files
+
+
+def operating_point(
+    desc: Sequence[Sequence[Any]], ideal_gain: float = IDEAL_GAIN, timeout: float = 30
+) -> dict[str, float]:
+    """Run ``ngspice -b`` on the circuit; return every node voltage (ground included)."""
+    text, back = netlist(desc, ideal_gain=ideal_gain)
+    out, _ = run_batch(text, timeout=timeout)
     volts = {GROUND: 0.0}
     for line in out.splitlines():
         m = _LINE.match(line)

@@ -24,16 +24,13 @@ from __future__ import annotations
 
 import functools
 import math
-import os
 import re
-import subprocess
-import tempfile
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from spice import IDEAL_GAIN, SpiceError
+from spice import IDEAL_GAIN, run_batch
 
 __all__ = ["NoiseRun", "ac", "boltzmann", "netlist", "noise"]
 
@@ -116,29 +113,8 @@ def netlist(
 
 def _run(cards: str, control: list[str], files: Sequence[str], timeout: float = 60):
     text = "\n".join([cards, ".control", *control, "quit", ".endc", ".end", ""])
-    with tempfile.TemporaryDirectory() as tmp:
-        path = os.path.join(tmp, "circuit.cir")
-        with open(path, "w") as fh:
-            fh.write(text)
-        run = subprocess.run(
-            ["ngspice", "-b", path],
-            capture_output=True,
-            text=True,
-            timeout=timeout,
-            cwd=tmp,
-            check=False,
-        )
-        out = run.stdout
-        if run.returncode != 0 or "singular" in (out + run.stderr).lower():
-            raise SpiceError(
-                f"ngspice failed (exit {run.returncode}):\n{run.stderr}\n{out}"
-                f"\n--- netlist\n{text}"
-            )
-        tables = {}
-        for name in files:
-            with open(os.path.join(tmp, name)) as fh:
-                tables[name] = _table(fh.read())
-    return out, tables
+    out, raw = run_batch(text, timeout=timeout, read=files)
+    return out, {name: _table(body) for name, body in raw.items()}
 
 
 def _table(text: str) -> dict[str, np.ndarray]:
