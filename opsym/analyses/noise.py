@@ -54,6 +54,7 @@ from ..numeric._views import TableViews
 from ..numeric.frequency import evaluator, for_numbers, integrate
 from .derive import coefficients_of, output_weights, resolve_values, sources_of
 from .present import transfer_form
+from .result import SourceInfo
 
 __all__ = [
     "BOLTZMANN",
@@ -116,21 +117,21 @@ def noise(
     z = solve_adjoint(eqs, weights, progress=progress)
     signals = [i for i in sources_of(circuit) if i.kind == "signal"]
     noisy = sources_of(circuit, noise=True)
-    found = coefficients_of(eqs, z, [*signals, *noisy])
+    resistors = [e for e in circuit.elements if isinstance(e, Resistor)]
+    thermal = [SourceInfo(thermal_symbol(e.name), "thermal", e.name, e.value) for e in resistors]
+    found = coefficients_of(eqs, z, [*signals, *noisy, *thermal])
     sources: list[NoiseSource] = []
-    for e in circuit.elements:
-        if isinstance(e, Resistor):
-            sym = thermal_symbol(e.name)
-            stamps = eqs.sources.get(sym, {})
-            h = sp.Add(*[z[r] * w for r, w in stamps.items()])
-            r_value = e.value.xreplace(fixed) if fixed else e.value
-            density = sp.sqrt(4 * BOLTZMANN * t_kelvin * r_value)
-            sources.append(
-                NoiseSource(
-                    e.name, e.name, "thermal noise √(4kTR)", "V",
-                    NoiseSpectrum(sym, density, sp.S.Zero), h,
-                )
-            )  # fmt: skip
+    for e in resistors:
+        sym = thermal_symbol(e.name)
+        h = found[sym]
+        r_value = e.value.xreplace(fixed) if fixed else e.value
+        density = sp.sqrt(4 * BOLTZMANN * t_kelvin * r_value)
+        sources.append(
+            NoiseSource(
+                e.name, e.name, "thermal noise √(4kTR)", "V",
+                NoiseSpectrum(sym, density, sp.S.Zero), h,
+            )
+        )  # fmt: skip
     for amp in circuit.opamps:
         for kind in amp.nonideals:
             for spectrum in kind.spectra(amp.name):
