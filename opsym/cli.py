@@ -26,9 +26,9 @@ from __future__ import annotations
 import argparse
 import sys
 import time
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from pathlib import Path
-from typing import Any, TextIO
+from typing import Any, NamedTuple, TextIO
 
 from . import __version__
 from .errors import OpsymError
@@ -168,16 +168,15 @@ def _report(args: argparse.Namespace) -> int:
     if progress is not None:
         progress.close()
     plans = _figure_plans(study, args.figures) if args.figures is not None else []
-    figures = [(path, caption) for path, caption, _ in plans]
     files: dict[Path, str] = {}
     if args.latex is not None:
-        files[args.latex] = _note(study, "latex", figures, args.latex, args.standalone)
+        files[args.latex] = _note(study, "latex", plans, args.latex, args.standalone)
     if args.markdown is not None:
-        files[args.markdown] = _note(study, "markdown", figures, args.markdown, False)
+        files[args.markdown] = _note(study, "markdown", plans, args.markdown, False)
     _write_all(plans, files)
     if not args.quiet:
         _summary(study, sys.stdout)
-        for path in [*(p for p, _ in figures), *files]:
+        for path in [*(p.path for p in plans), *files]:
             print(f"wrote {path}", file=sys.stderr)
     return 0
 
@@ -188,60 +187,71 @@ class _OutputError(OpsymError, OSError):
 
 # -- report parts ------------------------------------------------------------------------
 
+#: Where a figure goes in the notes: the numeric budget's figures, or a section's.
+_BUDGET, _FREQUENCY, _NOISE = "budget", "frequency", "noise"
 
-def _figure_plans(study: Any, directory: Path) -> list[tuple[Path, str, Any]]:
-    """The figures this study can draw: (path, caption, draw function)."""
-    from .output.figures import contribution_chart, monte_carlo_histogram, temperature_chart
 
-    plans: list[tuple[Path, str, Any]] = []
-    plans += _frequency_plans(study, directory)
+class _Plan(NamedTuple):
+    """One figure to draw: its file, its caption, the note section it belongs to, how."""
+
+    path: Path
+    caption: str
+    section: str
+    draw: Callable[[Path], Any]
+
+
+def _figure_plans(study: Any, directory: Path) -> list[_Plan]:
+    """The figures this study can draw."""
+    from functools import partial
+
+    from .output.figures import (
+        bode_chart,
+        contribution_chart,
+        gain_error_chart,
+        monte_carlo_histogram,
+        noise_density_chart,
+        temperature_chart,
+    )
+
+    plans: list[_Plan] = []
+    r, n = study.response, study.noise
+    if r is not None:
+        what, band = f"V({r.output}) from {r.signal}", {"f_start": r.f_start, "f_stop": r.f_stop}
+
+        def bode(p: Path) -> Any:
+            return bode_chart(r.result, p, source=r.signal, ideal=True, **band)
+
+        def gain_error(p: Path) -> Any:
+            return gain_error_chart(r.result, p, signal=r.signal, **band)
+
+        plans.append(_Plan(directory / "bode.png", f"Bode plot: {what}", _FREQUENCY, bode))
+        plans.append(
+            _Plan(directory / "gain-error.png", f"Gain error: {what}", _FREQUENCY, gain_error)
+        )
+    if n is not None:
+        low, high = _noise_plot_band(study)
+
+        def density(p: Path) -> Any:
+            return noise_density_chart(n.result, p, f_start=low, f_stop=high)
+
+        caption = f"Output noise density at {n.budget.output}"
+        plans.append(_Plan(directory / "noise-density.png", caption, _NOISE, density))
     if study.budget is not None:
-        plans.append((directory / "contributions.png", "Error contributions",
-                      lambda p: contribution_chart(study.budget, p)))  # fmt: skip
+        draw = partial(contribution_chart, study.budget)
+        plans.append(_Plan(directory / "contributions.png", "Error contributions", _BUDGET, draw))
     if study.sweep is not None:
-        plans.append((directory / "temperature.png", "Error over temperature",
-                      lambda p: temperature_chart(study.sweep, p)))  # fmt: skip
+        draw = partial(temperature_chart, study.sweep)
+        plans.append(_Plan(directory / "temperature.png", "Error over temperature", _BUDGET, draw))
     for i, s in enumerate(study.studies, start=1):
         if s.mc is not None:
-            plans.append((directory / f"monte-carlo-{i}.png", f"Monte Carlo: {s.quantity}",
-                          lambda p, s=s: monte_carlo_histogram(s, p)))  # fmt: skip
+            caption = f"Monte Carlo: {s.quantity}"
+            draw = partial(monte_carlo_histogram, s)
+            plans.append(_Plan(directory / f"monte-carlo-{i}.png", caption, _BUDGET, draw))
     if not plans:
         raise _OutputError(
             "--figures: this design has nothing to draw; give op-amp parameter sets "
             "(for a budget), a [tolerance] study, a [response] or a [noise] table"
         )
-    return plans
-
-
-def _frequency_plans(study: Any, directory: Path) -> list[tuple[Path, str, Any]]:
-    """Bode, gain-error and noise-density figures, where this opsym can draw them."""
-    from .output import figures
-
-    plans: list[tuple[Path, str, Any]] = []
-    r, n = study.response, study.noise
-    wanted = []
-    if r is not None:
-        what = f"V({r.output}) from {r.signal}"
-        wanted += [
-            ("bode_chart", "bode.png", f"Bode plot: {what}",
-             lambda p, f: f(r.result, p, source=r.signal, f_start=r.f_start, f_stop=r.f_stop,
-                            ideal=True)),
-            ("gain_error_chart", "gain-error.png", f"Gain error: {what}",
-             lambda p, f: f(r.result, p, signal=r.signal, f_start=r.f_start, f_stop=r.f_stop)),
-        ]  # fmt: skip
-    if n is not None:
-        low, high = _noise_plot_band(study)
-        wanted.append(
-            ("noise_density_chart", "noise-density.png",
-             f"Output noise density at {n.budget.output}",
-             lambda p, f: f(n.result, p, f_start=low, f_stop=high)),
-        )  # fmt: skip
-    for name, file, caption, draw in wanted:
-        fn = getattr(figures, name, None)
-        if fn is None:  # an opsym without that figure: say so, draw the rest
-            _fail_note(f"--figures: this opsym cannot draw {file} (no {name}); skipped")
-            continue
-        plans.append((directory / file, caption, lambda p, d=draw, f=fn: d(p, f)))
     return plans
 
 
@@ -259,21 +269,17 @@ def _noise_plot_band(study: Any) -> tuple[float, float]:
     return low, high
 
 
-def _fail_note(message: str) -> None:
-    print(f"opsym: note: {message}", file=sys.stderr)
-
-
-def _write_all(plans: list[tuple[Path, str, Any]], files: dict[Path, str]) -> None:
+def _write_all(plans: list[_Plan], files: dict[Path, str]) -> None:
     """Draw every figure in a scratch directory, then write figures and notes together."""
     import shutil
     import tempfile
 
     with tempfile.TemporaryDirectory() as tmp:
         drawn = []
-        for i, (path, _caption, draw) in enumerate(plans):
-            scratch = Path(tmp) / f"{i}{path.suffix}"
-            draw(scratch)
-            drawn.append((scratch, path))
+        for i, plan in enumerate(plans):
+            scratch = Path(tmp) / f"{i}{plan.path.suffix}"
+            plan.draw(scratch)  # matplotlib missing: MissingDependencyError, exit status 2
+            drawn.append((scratch, plan.path))
         try:
             for scratch, path in drawn:
                 path.parent.mkdir(parents=True, exist_ok=True)
@@ -286,92 +292,41 @@ def _write_all(plans: list[tuple[Path, str, Any]], files: dict[Path, str]) -> No
                                f"{err.strerror or err}") from None  # fmt: skip
 
 
-def _note(study: Any, fmt: str, figures: list[tuple[Path, str]], path: Path, standalone: bool):
+def _note(study: Any, fmt: str, plans: list[_Plan], path: Path, standalone: bool) -> str:
+    """A design note with its frequency-response and noise sections, figures in place."""
     import os
 
     from .output.notes import design_note
+    from .output.sections import FrequencySection, NoiseSection
 
     here = path.parent.resolve()
-    figs = [(Path(os.path.relpath(p.resolve(), here)), caption) for p, caption in figures]
-    note = design_note(
-        study.result, study.budget, title=None, conditions=study.conditions,
-        choices=study.choices, studies=study.studies, sweep=study.sweep, figures=figs,
-        fmt=fmt, standalone=standalone,
-    )  # fmt: skip
-    return _with_sections(note, _frequency_sections(study, fmt), fmt)
 
+    def figures(section: str) -> list[tuple[Path, str]]:
+        return [(Path(os.path.relpath(p.path.resolve(), here)), p.caption)
+                for p in plans if p.section == section]  # fmt: skip
 
-def _with_sections(note: str, sections: str, fmt: str) -> str:
-    """Put ``sections`` into the note before its caution, which stays last."""
-    if not sections:
-        return note
-    marker = "### Caution" if fmt == "markdown" else r"\subsection*{Caution}"
-    at = note.rfind(marker)
-    if at < 0:  # pragma: no cover - every note ends with the caution
-        end = note.rfind(r"\end{document}")
-        at = end if end >= 0 else len(note)
-    return note[:at] + sections + "\n" + note[at:]
-
-
-def _frequency_sections(study: Any, fmt: str) -> str:
-    """The response and noise sections of a design note (Markdown or LaTeX)."""
-    from .output import latex as formulas
-
-    parts: list[str] = []
     r, n = study.response, study.noise
+    frequency = noise = None
     if r is not None:
-        parts += _section("Frequency response", _transfer_equation(r, formulas), r.tables(), fmt)
+        frequency = FrequencySection(r.result, source=r.signal, points=_response_points(r),
+                                     figures=figures(_FREQUENCY))  # fmt: skip
     if n is not None:
-        noise_latex = getattr(formulas, "noise_latex", None)
-        equation = str(noise_latex(n.result)) if noise_latex is not None else None
-        parts += _section("Noise", equation, [n.budget.table()], fmt, n.notes())
-    return "\n".join(parts)
+        noise = NoiseSection(n.result, n.f_start, n.f_stop, figures=figures(_NOISE))
+    return design_note(
+        study.result, study.budget, title=None, conditions=study.conditions,
+        choices=study.choices, studies=study.studies, sweep=study.sweep,
+        figures=figures(_BUDGET), frequency=frequency, noise=noise, fmt=fmt,
+        standalone=standalone,
+    )  # fmt: skip
 
 
-def _transfer_equation(r: Any, formulas: Any) -> str:
-    transfer_latex = getattr(formulas, "transfer_latex", None)
-    if transfer_latex is not None:
-        return str(transfer_latex(r.symbolic, source=r.signal))
-    import sympy as sp
-
-    names = r.symbolic.symbol_latex() if hasattr(r.symbolic, "symbol_latex") else {}
-    coeff = r.symbolic.coefficient(r.signal)
-    return "H(s) = " + sp.latex(coeff, symbol_names=dict(names))
-
-
-def _section(
-    title: str, equation: str | None, tables: list[Any], fmt: str, notes: Sequence[str] = ()
-) -> list[str]:
-    from .output.tables import latex_text
-
-    if fmt == "markdown":
-        out = [f"### {title}", ""]
-        if equation:
-            out += ["$$", _bare_math(equation), "$$", ""]
-        for t in tables:
-            out += [t.to_markdown(), ""]
-        out += [f"- {line}" for line in notes]
-        return [*out, ""] if notes else out
-    out = [r"\subsection*{" + latex_text(title) + "}"]
-    if equation:
-        body = _bare_math(equation)
-        out += [body] if r"\begin{" in body else [r"\[", body, r"\]"]
-    for t in tables:
-        out += [r"\begin{center}"]
-        if t.caption:
-            out += [r"\textbf{" + latex_text(t.caption) + r"}\par\smallskip"]
-        out += [t.to_latex(float_env=False), r"\end{center}"]
-    out += [r"\par{\footnotesize " + latex_text(line) + "}" for line in notes]
+def _response_points(r: Any) -> list[float]:
+    """The note's response table: DC, the ``[response]`` grid and the ``at`` frequencies."""
+    out: list[float] = []
+    for f in sorted({0.0, *(p.frequency for p in r.grid), *(p.frequency for p in r.points)}):
+        if not out or f > out[-1] * (1 + 1e-9):  # a grid point and an `at` point coincide
+            out.append(f)
     return out
-
-
-def _bare_math(text: str) -> str:
-    """An equation without display delimiters, whichever way the formatter wrote it."""
-    s = text.strip()
-    for left, right in ((r"\[", r"\]"), ("$$", "$$"), ("$", "$")):
-        if s.startswith(left) and s.endswith(right) and len(s) > len(left) + len(right):
-            return s[len(left) : -len(right)].strip()
-    return s
 
 
 def _summary(study: Any, out: TextIO) -> None:

@@ -214,40 +214,128 @@ to = "10 kHz"
 """
 
 
-def test_report_prints_and_writes_the_frequency_sections(tmp_path):
-    from opsym.output import figures
+def _compile(tmp_path: Path, name: str) -> None:
+    """pdflatex ``name`` in ``tmp_path``; skipped without pdflatex unless OPSYM_REQUIRE_LATEX=1."""
+    if not shutil.which("pdflatex"):
+        if os.environ.get("OPSYM_REQUIRE_LATEX") == "1":
+            pytest.fail("OPSYM_REQUIRE_LATEX=1 but pdflatex is not on PATH")
+        pytest.skip("pdflatex not installed")
+    build = subprocess.run(
+        ["pdflatex", "-interaction=nonstopmode", "-halt-on-error", name],
+        cwd=tmp_path, capture_output=True, text=True, timeout=120,
+    )  # fmt: skip
+    assert build.returncode == 0, build.stdout[-3000:]
+    assert (tmp_path / name).with_suffix(".pdf").stat().st_size > 1000
+
+
+def _after(text: str, marker: str) -> str:
+    """What follows the last ``marker`` (which must be there)."""
+    assert marker in text
+    return text[text.rindex(marker) + len(marker) :]
+
+
+def test_report_writes_the_frequency_and_noise_notes(tmp_path):
+    from opsym.output.notes import CAUTION
 
     run = opsym(
-        "report", str(TIA), "--markdown", str(tmp_path / "note.md"),
-        "--latex", str(tmp_path / "note.tex"), "--standalone", "--figures", str(tmp_path / "fig"),
+        "report", str(TIA), "--latex", "note.tex", "--markdown", "note.md", "--figures", "figs/",
+        cwd=tmp_path,
     )  # fmt: skip
     assert run.returncode == 0, run.stderr
-    assert "Traceback" not in run.stderr
+    assert "Traceback" not in run.stderr and "cannot draw" not in run.stderr
     out = run.stdout
     assert "Frequency response of V(out) from Iph, 10 Hz to 10 MHz" in out
     assert "−3 dB bandwidth" in out and "Gain and gain error of V(out) from Iph" in out
     assert "Noise budget at out, 100 mHz to 100 kHz" in out and "referred to the input" in out
     assert out.index("Error budget") < out.index("Frequency response") < out.index("Noise budget")
+    figures = ["bode.png", "contributions.png", "gain-error.png", "noise-density.png"]
+    assert sorted(p.name for p in (tmp_path / "figs").iterdir()) == figures
+    assert all((tmp_path / "figs" / f).stat().st_size > 1000 for f in figures)
+
     md = (tmp_path / "note.md").read_text(encoding="utf-8")
-    assert md.index("### Frequency response") < md.index("### Noise") < md.index("### Caution")
-    assert "H(s) =" in md or "\\frac" in md
+    frequency, noise = md.index("### Frequency response"), md.index("### Noise")
+    assert frequency < noise < md.index("### Caution")
+    assert _after(md, "### Caution").strip() == CAUTION  # the caution is last
+    # An ideal transimpedance stage: V(out)/Iph = -Rf = -1 MΩ at DC [from memory: any
+    # op-amp text, the inverting current-to-voltage converter].
+    assert r"H(s) = \frac{V_{\mathrm{out}}}{I_{\mathrm{ph}}} = -999999" in md
+    assert "- Bandwidth (−3 dB): " in md[frequency:noise]
+    # The response table: DC, the grid (10 Hz ... 10 MHz, one a decade) and the `at`
+    # frequencies (1, 10, 100 kHz, on the grid), each once, with |H/H_ideal - 1|.
+    rows = [line.split("|")[1].strip() for line in md[frequency:noise].splitlines()
+            if line.startswith("| ") and "Hz" in line.split("|")[1]]  # fmt: skip
+    assert rows == ["0 Hz", "10 Hz", "100 Hz", "1 kHz", "10 kHz", "100 kHz", "1 MHz", "10 MHz"]
+    # DC gain error of an inverting stage: 1/(A0·β) with β = Rsh/(Rf + Rsh) ≈ 1, A0 = 120 dB
+    # -> 1 ppm [from memory: loop-gain error 1/(1 + Aβ), e.g. Franco, op-amp chapter].
+    assert "| 0 Hz | 1 MΩ | 180.00° | 1 ppm |" in md
+    for file in ("bode.png", "gain-error.png"):
+        assert frequency < md.index(f"](figs/{file})") < noise  # in their section
+    assert noise < md.index("](figs/noise-density.png)") < md.index("### Caution")
+    assert "](figs/contributions.png)" in md
+    # The noise budget: Rf's Johnson noise sqrt(4kTR) at 35 °C (308.15 K), k exact (BIPM SI
+    # Brochure, 9th ed.; reference-checks case 13), over 0.1 Hz-100 kHz through |H| <= 1:
+    # at most sqrt(4kTR·Δf) = 41.25 µV, and more than 90 % of it (|H(100 kHz)| = 0.93).
+    assert "\\begin{aligned}" in md[noise:] and "S(f) &= 4 k T\\, R_{f}" in md
+    row = next(line for line in md[noise:].splitlines() if line.startswith("| Rf |"))
+    rf_rms = float(row.split("|")[3].split()[0]) * 1e-6
+    bound = (4 * 1.380649e-23 * 308.15 * 1e6 * (1e5 - 0.1)) ** 0.5
+    assert 0.9 * bound < rf_rms < bound
+    assert "**peak-to-peak estimate**" in md and "**referred to the input**" in md
+
     tex = (tmp_path / "note.tex").read_text(encoding="utf-8")
-    assert tex.index(r"\subsection*{Noise}") < tex.index(r"\subsection*{Caution}")
-    drawn = {"contributions.png"}
-    for name, file in [("bode_chart", "bode.png"), ("gain_error_chart", "gain-error.png"),
-                       ("noise_density_chart", "noise-density.png")]:  # fmt: skip
-        if hasattr(figures, name):
-            drawn.add(file)
-            assert f"fig/{file}" in md
-        else:
-            assert f"cannot draw {file}" in run.stderr
-    assert {p.name for p in (tmp_path / "fig").iterdir()} == drawn
-    if shutil.which("pdflatex"):  # the note compiles as written
-        build = subprocess.run(
-            ["pdflatex", "-interaction=nonstopmode", "-halt-on-error", "note.tex"],
-            cwd=tmp_path, capture_output=True, text=True, timeout=120,
-        )  # fmt: skip
-        assert build.returncode == 0, build.stdout[-2000:]
+    assert r"\documentclass" not in tex  # without --standalone: a part to \input
+    assert tex.index(r"\subsection*{Frequency response}") < tex.index(r"\subsection*{Noise}")
+    assert _after(tex, r"\subsection*{Caution}").strip() == CAUTION
+    assert r"H(s) = \frac{V_{\mathrm{out}}}{I_{\mathrm{ph}}}" in tex
+    assert "Noise budget at out, 100 mHz to 100 kHz" in tex
+    for file in figures:
+        assert r"\includegraphics[width=0.8\linewidth]{figs/" + file + "}" in tex
+    (tmp_path / "wrap.tex").write_text(
+        "\\documentclass{article}\n\\usepackage{textcomp,amsmath,booktabs,graphicx}\n"
+        "\\usepackage[margin=2cm]{geometry}\n\\begin{document}\n\\input{note.tex}\n"
+        "\\end{document}\n",
+        encoding="utf-8",
+    )
+    _compile(tmp_path, "wrap.tex")
+
+
+def test_standalone_frequency_note_compiles(tmp_path):
+    note = tmp_path / "alone.tex"
+    assert main(["report", str(TIA), "-q", "--latex", str(note), "--standalone"]) == 0
+    tex = note.read_text(encoding="utf-8")
+    assert tex.rstrip().endswith(r"\end{document}")
+    assert r"\subsection*{Noise}" in tex and r"\begin{aligned}" in tex
+    _compile(tmp_path, "alone.tex")
+
+
+def test_figures_without_matplotlib_are_a_user_error(tmp_path, monkeypatch, capsys):
+    import sys as system
+
+    (tmp_path / "f.toml").write_text(TIA_BAD_BASE, encoding="utf-8")
+    for module in ("matplotlib.figure", "matplotlib.backends.backend_agg"):
+        monkeypatch.setitem(system.modules, module, None)  # importing them now fails
+    args = ["report", str(tmp_path / "f.toml"), "-q", "--figures", str(tmp_path / "fig"),
+            "--markdown", str(tmp_path / "note.md")]  # fmt: skip
+    assert main(args) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("opsym: error: figures need matplotlib") and "pip install" in err
+    assert len(err.strip().splitlines()) == 1 and "Traceback" not in err
+    assert not (tmp_path / "fig").exists() and not (tmp_path / "note.md").exists()
+
+
+def test_noise_plot_band_is_finite():
+    from types import SimpleNamespace as S
+
+    from opsym.cli import _noise_plot_band
+
+    def band(f_start, f_stop, response=None):
+        return _noise_plot_band(S(noise=S(f_start=f_start, f_stop=f_stop), response=response))
+
+    inf = float("inf")
+    assert band(0.1, 1e5) == (0.1, 1e5)  # a finite band is drawn as given
+    assert band(0.1, inf, S(f_stop=1e6)) == (0.1, 1e6)  # to ∞: to the response's end
+    assert band(0.0, inf) == (1.0, 1e7)  # from 0 Hz: from 1 Hz, on a log axis
+    assert band(0.0, 1e3) == (1e-3, 1e3)  # six decades below a low top
 
 
 def test_bad_frequency_tables_exit_2_naming_the_field(tmp_path):
@@ -291,50 +379,3 @@ def test_noise_without_densities_is_a_user_error(tmp_path, capsys):
     err = capsys.readouterr().err
     assert err.startswith("opsym: error: ") and "[noise]" in err and "U1.en" in err
     assert "en_typ" in err and "Traceback" not in err
-
-
-def test_frequency_figures_and_formulas_are_called_as_documented(tmp_path, monkeypatch, capsys):
-    """The report calls the figure and formula functions with their documented signatures."""
-    import inspect
-
-    from opsym.output import figures, latex
-
-    calls: dict[str, dict] = {}
-
-    def fake(name):
-        def draw(first, path, **options):
-            calls[name] = {"first": first, **options}
-            Path(path).write_bytes(b"png")
-            return Path(path)
-
-        return draw
-
-    documented = {
-        "bode_chart": ("source", "f_start", "f_stop", "ideal"),
-        "gain_error_chart": ("signal", "f_start", "f_stop"),
-        "noise_density_chart": ("f_start", "f_stop", "top"),
-    }
-    for name, keywords in documented.items():
-        real = getattr(figures, name, None)
-        if real is not None:  # the real one exists: it takes the keywords the report passes
-            assert set(keywords) <= set(inspect.signature(real).parameters), name
-        monkeypatch.setattr(figures, name, fake(name), raising=False)
-    monkeypatch.setattr(latex, "transfer_latex", lambda r, source=None: r"H_{x}(s)", raising=False)
-    monkeypatch.setattr(latex, "noise_latex", lambda n: r"\[ e_{x} \]", raising=False)
-    monkeypatch.setattr(figures, "contribution_chart", fake("contribution_chart"))
-    md = tmp_path / "note.md"
-    assert main(["report", str(TIA), "-q", "--figures", str(tmp_path / "f"), "--markdown",
-                 str(md)]) == 0  # fmt: skip
-    assert capsys.readouterr().err == ""
-    assert calls["bode_chart"]["source"] == "Iph" and calls["bode_chart"]["ideal"] is True
-    assert (calls["bode_chart"]["f_start"], calls["bode_chart"]["f_stop"]) == (10.0, 1e7)
-    assert calls["gain_error_chart"]["signal"] == "Iph"
-    assert (calls["noise_density_chart"]["f_start"], calls["noise_density_chart"]["f_stop"]) == (
-        0.1,
-        1e5,
-    )
-    assert calls["noise_density_chart"]["first"].names[0] == "Rf"  # a NoiseResult
-    text = md.read_text(encoding="utf-8")
-    assert "$$\nH_{x}(s)\n$$" in text and "$$\ne_{x}\n$$" in text
-    for file in ("bode.png", "gain-error.png", "noise-density.png"):
-        assert f"(../f/{file})" in text or f"(f/{file})" in text
