@@ -311,7 +311,9 @@ def _note(study: Any, fmt: str, plans: list[_Plan], path: Path, standalone: bool
         frequency = FrequencySection(r.result, source=r.signal, points=_response_points(r),
                                      figures=figures(_FREQUENCY))  # fmt: skip
     if n is not None:
-        noise = NoiseSection(n.result, n.f_start, n.f_stop, figures=figures(_NOISE))
+        noise = NoiseSection(
+            n.result, n.f_start, n.f_stop, figures=figures(_NOISE), signal=n.signal
+        )
     return design_note(
         study.result, study.budget, title=None, conditions=study.conditions,
         choices=study.choices, studies=study.studies, sweep=study.sweep,

@@ -302,7 +302,7 @@ def run_noise(design: Design, values: Mapping[str, float], settings: NoiseSettin
         design.output, values=_element_values(design, values), temperature=temperature
     )
     try:
-        budget = _budget(result, f_start, f_stop, settings.signal)
+        budget = result.budget(f_start, f_stop, settings.signal)
     except BudgetError as err:
         raise BudgetError(f"{design.source}: [noise]: {err} ({_NOISE_HINT})") from err
     except InvalidValueError as err:
@@ -331,31 +331,6 @@ def _points(result: Any, signal: str, f: np.ndarray) -> tuple[ResponsePoint, ...
     return tuple(
         ResponsePoint(float(x), complex(a), complex(b)) for x, a, b in zip(f, h, h0, strict=True)
     )
-
-
-def _budget(result: Any, f_start: float, f_stop: float, signal: str | None) -> Any:
-    """``result.budget(...)``; to ∞, without the input-referred part, which has no value.
-
-    ``NoiseResult.budget`` lets the divergence of the input-referred integral escape as
-    an InvalidValueError when ``f_high`` is infinite, though the budget itself exists;
-    then the same rows are built here from the public pieces.
-    """
-    try:
-        return result.budget(f_start, f_stop, signal)
-    except InvalidValueError:
-        if not math.isinf(f_stop) or not result.names:
-            raise
-    from ..analyses.noise import NoiseBudget, NoiseRow
-
-    parts = {name: result.rms(f_start, f_stop, name) for name in result.names}
-    total = math.sqrt(sum(v**2 for v in parts.values()))
-    rows = tuple(
-        NoiseRow(n, f"{result.source(n).what} of {result.source(n).owner}", v,
-                 v**2 / total**2 if total > 0 else 0.0)
-        for n, v in sorted(parts.items(), key=lambda kv: -kv[1])
-    )  # fmt: skip
-    out = result.output if isinstance(result.output, str) else "-".join(result.output)
-    return NoiseBudget(out, f_start, f_stop, result.temperature, rows, total, None)
 
 
 def _degrees(x: complex) -> str:

@@ -214,12 +214,15 @@ class NoiseSection:
         The band in hertz (``f_high`` may be ``inf``).
     figures : iterable of (path, caption) or path
         Figures to include (e.g. from :func:`~opsym.output.figures.noise_density_chart`).
+    signal : str, optional
+        The signal the noise is referred to, when the circuit has several.
     """
 
     noise: Any
     f_low: float
     f_high: float
     figures: Iterable[Any] = ()
+    signal: Any = None
     budget: Any = field(default=None, init=False)
 
     def __post_init__(self) -> None:
@@ -228,7 +231,8 @@ class NoiseSection:
                 "NoiseSection needs a noise result; build it with circuit.noise(output, values)"
             )
         object.__setattr__(self, "figures", _figure_list(self.figures))
-        object.__setattr__(self, "budget", self.noise.budget(self.f_low, self.f_high))
+        budget = self.noise.budget(self.f_low, self.f_high, self.signal)
+        object.__setattr__(self, "budget", budget)
 
     _INTRO = (
         "The noise sources are uncorrelated, so their powers add at the output. "
