@@ -216,10 +216,10 @@ def design_note(
                 out += [t, ""]
             if sweep is not None:
                 out += [sweep.to_markdown(), ""]
+        for path, caption in figs:  # the budget's figures, next to its tables
+            out += ["", f"![{caption or path.stem}]({path.as_posix()})"]
         for section in extra:
             out += ["", section.markdown()]
-        for path, caption in figs:
-            out += ["", f"![{caption or path.stem}]({path.as_posix()})"]
         out += ["", "### Caution", "", CAUTION, ""]
         return "\n".join(out)
 
@@ -252,8 +252,7 @@ def design_note(
             if t.caption:
                 body += [r"\textbf{" + latex_text(t.caption) + r"}\par\smallskip"]
             body += [t.to_latex(float_env=False), r"\end{center}"]
-    body += [section.latex() for section in extra]
-    for path, caption in figs:
+    for path, caption in figs:  # the budget's figures, next to its tables
         body += [
             r"\begin{center}",
             r"\includegraphics[width=0.8\linewidth]{" + path.as_posix() + "}",
@@ -261,6 +260,7 @@ def design_note(
         if caption:
             body.append(r"\par\smallskip " + latex_text(caption))
         body.append(r"\end{center}")
+    body += [section.latex() for section in extra]
     body += [r"\subsection*{Caution}", latex_text(CAUTION)]
     text = "\n".join(body) + "\n"
     if standalone:
