@@ -191,3 +191,10 @@ def test_noise_takes_densities_from_a_parameter_set():
     assert float(given.density(1e3)) == pytest.approx(1e-9, rel=1e-4)  # values win
     with pytest.raises(opsym.InvalidValueError, match="OpAmpParams"):
         c.noise("out", opamps={"U1": {"en": 1e-9}})
+
+
+def test_evaluator_never_runs_text():
+    # Text goes through the whitelist value parser, never sympify: code is refused.
+    with pytest.raises(opsym.ValueSyntaxError):
+        evaluator('__import__("os").getcwd()', "H")
+    assert evaluator("2k", "H")(1.0) == pytest.approx(2000.0)

@@ -29,6 +29,7 @@ import numpy as np
 import sympy as sp
 
 from ..errors import BudgetError, InvalidValueError
+from ..model.circuit import to_exact
 from ..model.symbols import LAPLACE
 
 __all__ = [
@@ -55,7 +56,7 @@ def evaluator(expr: sp.Expr, what: str) -> Callable[[object], np.ndarray]:
     ``what`` names the quantity in the error raised when symbols are left:
     the message lists them and says to give their values.
     """
-    expr = sp.sympify(expr)  # an expression already: no user text reaches here
+    expr = to_exact(expr, what)  # never sympify: text goes to the parser
     left = sorted(str(x) for x in expr.free_symbols if x != LAPLACE)
     if left:
         raise BudgetError(

@@ -30,6 +30,7 @@ import numpy as np
 import sympy as sp
 
 from ..analyses.present import TIDY_LIMIT, tidy, trade_form
+from ..model.circuit import to_exact
 from ..model.symbols import LAPLACE
 from ..numeric.units import format_si
 
@@ -74,7 +75,7 @@ def transfer_parts(expr: sp.Expr, s: sp.Symbol = LAPLACE) -> TransferParts | Non
     >>> transfer_parts(10 * s / (1 + s / 100))
     TransferParts(gain=10, order=1, numerator=1, denominator=s/100 + 1)
     """
-    expr = sp.sympify(expr)  # an expression already: no user text reaches here
+    expr = to_exact(expr, "transfer function")  # never sympify: text goes to the parser
     if s not in expr.free_symbols:
         return TransferParts(expr, 0, sp.S.One, sp.S.One)
     if sp.count_ops(expr) > TIDY_LIMIT:
