@@ -8,11 +8,16 @@ Environment variables read by the reference tests:
 
 * ``OPSYM_REQUIRE_NGSPICE=1``: a missing ``ngspice`` fails the ngspice tests
   instead of skipping them.
+* ``OPSYM_REQUIRE_LATEX=1``: a missing ``pdflatex`` fails the LaTeX compile tests
+  instead of skipping them.
 * ``OPSYM_HYPOTHESIS_SCALE=<n>``: multiply the number of property-test examples.
 """
 
 from __future__ import annotations
 
+import os
+import shutil
+import subprocess
 import sys
 from pathlib import Path
 
@@ -30,3 +35,29 @@ def ngspice():
 
     spice.require_ngspice()
     return spice
+
+
+@pytest.fixture
+def pdflatex():
+    """``compile(directory, name)``: run pdflatex on ``directory/name``, return the PDF path.
+
+    Called without pdflatex it skips the rest of the test (fails if
+    ``OPSYM_REQUIRE_LATEX=1``), so the checks before it still run; a failed run
+    fails the test with the end of the log.
+    """
+
+    def compile_tex(directory: Path, name: str) -> Path:
+        if not shutil.which("pdflatex"):
+            if os.environ.get("OPSYM_REQUIRE_LATEX") == "1":
+                pytest.fail("OPSYM_REQUIRE_LATEX=1 but pdflatex is not on PATH")
+            pytest.skip("pdflatex not installed")
+        run = subprocess.run(
+            ["pdflatex", "-interaction=nonstopmode", "-halt-on-error", name],
+            cwd=directory, capture_output=True, text=True, timeout=120,
+        )  # fmt: skip
+        assert run.returncode == 0, run.stdout[-3000:]
+        pdf = (Path(directory) / name).with_suffix(".pdf")
+        assert pdf.stat().st_size > 1000
+        return pdf
+
+    return compile_tex

@@ -7,7 +7,6 @@ one run per example, and bad files checked together where one run can show it.
 from __future__ import annotations
 
 import os
-import shutil
 import subprocess
 import sys
 from pathlib import Path
@@ -214,27 +213,13 @@ to = "10 kHz"
 """
 
 
-def _compile(tmp_path: Path, name: str) -> None:
-    """pdflatex ``name`` in ``tmp_path``; skipped without pdflatex unless OPSYM_REQUIRE_LATEX=1."""
-    if not shutil.which("pdflatex"):
-        if os.environ.get("OPSYM_REQUIRE_LATEX") == "1":
-            pytest.fail("OPSYM_REQUIRE_LATEX=1 but pdflatex is not on PATH")
-        pytest.skip("pdflatex not installed")
-    build = subprocess.run(
-        ["pdflatex", "-interaction=nonstopmode", "-halt-on-error", name],
-        cwd=tmp_path, capture_output=True, text=True, timeout=120,
-    )  # fmt: skip
-    assert build.returncode == 0, build.stdout[-3000:]
-    assert (tmp_path / name).with_suffix(".pdf").stat().st_size > 1000
-
-
 def _after(text: str, marker: str) -> str:
     """What follows the last ``marker`` (which must be there)."""
     assert marker in text
     return text[text.rindex(marker) + len(marker) :]
 
 
-def test_report_writes_the_frequency_and_noise_notes(tmp_path):
+def test_report_writes_the_frequency_and_noise_notes(tmp_path, pdflatex):
     from opsym.output.notes import CAUTION
 
     run = opsym(
@@ -296,16 +281,16 @@ def test_report_writes_the_frequency_and_noise_notes(tmp_path):
         "\\end{document}\n",
         encoding="utf-8",
     )
-    _compile(tmp_path, "wrap.tex")
+    pdflatex(tmp_path, "wrap.tex")
 
 
-def test_standalone_frequency_note_compiles(tmp_path):
+def test_standalone_frequency_note_compiles(tmp_path, pdflatex):
     note = tmp_path / "alone.tex"
     assert main(["report", str(TIA), "-q", "--latex", str(note), "--standalone"]) == 0
     tex = note.read_text(encoding="utf-8")
     assert tex.rstrip().endswith(r"\end{document}")
     assert r"\subsection*{Noise}" in tex and r"\begin{aligned}" in tex
-    _compile(tmp_path, "alone.tex")
+    pdflatex(tmp_path, "alone.tex")
 
 
 def test_figures_without_matplotlib_are_a_user_error(tmp_path, monkeypatch, capsys):
