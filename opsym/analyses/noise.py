@@ -51,7 +51,7 @@ from ..model.nonideal import NoiseSpectrum
 from ..model.symbols import LAPLACE, thermal_symbol
 from ..model.topology import check_topology
 from ..numeric._views import TableViews
-from ..numeric.frequency import evaluator, for_numbers, integrate
+from ..numeric.frequency import evaluation_form, evaluator, integrate
 from .derive import coefficients_of, output_weights, resolve_values, sources_of
 from .present import transfer_form
 from .result import SourceInfo
@@ -359,7 +359,7 @@ class NoiseResult:
         if name not in self._compiled:
             src = self.source(name)
             compact = self._substituted(src.transfer)
-            form = for_numbers(compact, lambda: self.transfer(name))
+            form = evaluation_form(compact, lambda: self.transfer(name))
             h = evaluator(form, f"the transfer from {name}")
             density = self._number(self._substituted(src.spectrum.density), f"{name} density")
             corner_expr = self._substituted(src.spectrum.corner)

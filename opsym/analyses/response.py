@@ -25,7 +25,7 @@ class FrequencyResponse:
 
     It relies on the result's ``_domain``, ``_signal``, ``_source_symbol``,
     ``compact_coefficient``, ``coefficient`` and ``ideal``; the form it evaluates
-    is chosen by :func:`opsym.numeric.frequency.for_numbers`.
+    is chosen by :func:`opsym.numeric.frequency.evaluation_form`.
     """
 
     __slots__ = ()
@@ -120,6 +120,6 @@ class FrequencyResponse:
             )
 
     def _numeric_form(self, sym: sp.Symbol) -> sp.Expr:
-        from ..numeric.frequency import for_numbers
+        from ..numeric.frequency import evaluation_form
 
-        return for_numbers(self.compact_coefficient(sym), lambda: self.coefficient(sym))
+        return evaluation_form(self.compact_coefficient(sym), lambda: self.coefficient(sym))

@@ -35,8 +35,8 @@ from ..model.symbols import LAPLACE
 __all__ = [
     "HALF_POWER_DB",
     "bandwidth",
+    "evaluation_form",
     "evaluator",
-    "for_numbers",
     "frequency_grid",
     "integrate",
     "noise_bandwidth",
@@ -112,7 +112,7 @@ def _log_evaluator(expr: sp.Expr) -> Callable[[np.ndarray], np.ndarray]:
 _MAX_COLLECTED_DEGREE = 24
 
 
-def for_numbers(compact: sp.Expr, collect: Callable[[], sp.Expr]) -> sp.Expr:
+def evaluation_form(compact: sp.Expr, collect: Callable[[], sp.Expr]) -> sp.Expr:
     """The form of a transfer function to evaluate in floating point.
 
     A product (a cascade's chain of stage factors) is evaluated as it is, in
