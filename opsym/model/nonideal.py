@@ -199,7 +199,7 @@ class CommonModeRejection(NonIdeal):
     symbols = (
         SymbolSpec("Vcm", "V", r"V_{\mathrm{CM}}", "common mode Vcm/CMRR", file_value=True),
         SymbolSpec("CMRR", "", r"\mathrm{CMRR}", "CMRR", (("real", True), ("nonzero", True)),
-                   datasheet="cmrr"),
+                   datasheet="cmrr", role="parameter"),
     )  # fmt: skip
     convention = (
         "The CMRR error is Vcm/CMRR in series with the + pin (Vcm at the pins, CMRR as V/V)."
@@ -223,7 +223,7 @@ class SupplyRejection(NonIdeal):
         SymbolSpec("dVs", "V", r"\Delta V_{\mathrm{S}}", "supply change dVs/PSRR",
                    file_value=True),
         SymbolSpec("PSRR", "", r"\mathrm{PSRR}", "PSRR", (("real", True), ("nonzero", True)),
-                   datasheet="psrr"),
+                   datasheet="psrr", role="parameter"),
     )  # fmt: skip
     convention = "The PSRR error is dVs/PSRR, dVs the change of the total supply span."
 
@@ -246,7 +246,7 @@ class VoltageNoise(NonIdeal):
         SymbolSpec("en", "V/√Hz", r"e_{\mathrm{n}}", "voltage noise en",
                    (("nonnegative", True),), datasheet="en", file_value=True),
         SymbolSpec("fce", "Hz", r"f_{\mathrm{ce}}", "voltage-noise 1/f corner fce",
-                   (("nonnegative", True),), datasheet="fce", file_value=True),
+                   (("nonnegative", True),), datasheet="fce", file_value=True, role="parameter"),
     )  # fmt: skip
     convention = "The voltage noise en is in series with the + pin."
 
@@ -278,9 +278,9 @@ class CurrentNoise(NonIdeal):
         SymbolSpec("in-", "A/√Hz", r"i_{\mathrm{n-}}", "current noise in-",
                    (("nonnegative", True),)),
         SymbolSpec("in", "A/√Hz", r"i_{\mathrm{n}}", "current noise in",
-                   (("nonnegative", True),), datasheet="in", file_value=True),
+                   (("nonnegative", True),), datasheet="in", file_value=True, role="parameter"),
         SymbolSpec("fci", "Hz", r"f_{\mathrm{ci}}", "current-noise 1/f corner fci",
-                   (("nonnegative", True),), datasheet="fci", file_value=True),
+                   (("nonnegative", True),), datasheet="fci", file_value=True, role="parameter"),
     )  # fmt: skip
     convention = "The current noises in+ and in- flow into the pins, uncorrelated."
 
@@ -302,11 +302,11 @@ class CurrentNoise(NonIdeal):
 _POSITIVE = (("positive", True),)
 #: The gain models' symbols: the finite gain ``A`` and the single pole's ``A0``, ``GBW``.
 register_symbols(
-    SymbolSpec("A", "", "A", "open-loop gain A", _POSITIVE, datasheet="a"),
+    SymbolSpec("A", "", "A", "open-loop gain A", _POSITIVE, datasheet="a", role="parameter"),
     SymbolSpec("A0", "", r"A_{0}", "DC open-loop gain A0", _POSITIVE, datasheet="a",
-               file_value=True),
+               file_value=True, role="parameter"),
     SymbolSpec("GBW", "Hz", r"\mathrm{GBW}", "gain-bandwidth product GBW", _POSITIVE,
-               datasheet="gbw", file_value=True),
+               datasheet="gbw", file_value=True, role="parameter"),
 )  # fmt: skip
 
 

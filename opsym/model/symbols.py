@@ -73,6 +73,9 @@ class SymbolSpec:
     file_value : bool
         ``True`` when an op-amp table of a design file may give its number
         (``Vcm = "2.5 V"``).
+    role : {"source", "parameter"}
+        A source is a term of the superposition (``Vos``, ``Ib``); a parameter
+        scales terms (``CMRR``, ``A``, a noise corner).
 
     Examples
     --------
@@ -88,6 +91,11 @@ class SymbolSpec:
     signed: bool = False
     datasheet: str | None = None
     file_value: bool = False
+    role: str = "source"
+
+    def __post_init__(self) -> None:
+        if self.role not in ("source", "parameter"):
+            raise ValueError(f"SymbolSpec {self.suffix!r}: role must be 'source' or 'parameter'")
 
     def symbol(self, opamp: str) -> sp.Symbol:
         """The symbol ``<opamp>.<suffix>`` with this spec's assumptions."""
