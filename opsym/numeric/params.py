@@ -425,7 +425,7 @@ class ResistorParams:
 
 #: Invented generic op-amp sets (no real part): typical / limit values of the usual order.
 #: Supplies: ±15 V for the bipolar and JFET sets, a single 5 V for the CMOS ones (rail-to-rail
-#: output, input to the rails for the plain CMOS set). Noise is typical only, as datasheets
+#: output, inputs to the rails). Noise is typical only, as datasheets
 #: give it: FET and CMOS inputs have the shot noise
 #: of their leakage, white (fci = 0); a zero-drift part chops away its 1/f noise (fce = 0)
 #: but its switching adds current noise.
