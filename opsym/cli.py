@@ -40,6 +40,7 @@ _BUG = "this is a bug in opsym; please report it with the design file and this m
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit status (0, 1 or 2)."""
+    _utf8_streams()
     parser = _parser()
     args = parser.parse_args(argv)
     if not getattr(args, "run", None):
@@ -58,6 +59,17 @@ def main(argv: Sequence[str] | None = None) -> int:
     except Exception as err:  # the last line of defence: no traceback, but say it is a bug
         _fail(f"internal error ({type(err).__name__}: {err}); {_BUG}")
         return 1
+
+
+def _utf8_streams() -> None:
+    """Write UTF-8 on standard output and error when their locale cannot spell Ω, µ or ‖."""
+    for stream in (sys.stdout, sys.stderr):
+        try:
+            "Ωµ‖±°√—".encode(stream.encoding or "ascii")
+        except (UnicodeEncodeError, LookupError):
+            reconfigure = getattr(stream, "reconfigure", None)
+            if reconfigure is not None:  # a TextIOWrapper; test doubles may not be
+                reconfigure(encoding="utf-8")
 
 
 def _fail(message: str) -> None:
@@ -174,6 +186,8 @@ def _report(args: argparse.Namespace) -> int:
     if args.markdown is not None:
         files[args.markdown] = _note(study, "markdown", plans, args.markdown, False)
     _write_all(plans, files)
+    for warning in study.operating.warnings if study.operating is not None else ():
+        print(f"opsym: warning: {_source(study)}: {warning}", file=sys.stderr)
     if not args.quiet:
         _summary(study, sys.stdout)
         for path in [*(p.path for p in plans), *files]:
@@ -314,12 +328,24 @@ def _note(study: Any, fmt: str, plans: list[_Plan], path: Path, standalone: bool
         noise = NoiseSection(
             n.result, n.f_start, n.f_stop, figures=figures(_NOISE), signal=n.signal
         )
+    d = study.design
     return design_note(
         study.result, study.budget, title=None, conditions=study.conditions,
         choices=study.choices, studies=study.studies, sweep=study.sweep,
         figures=figures(_BUDGET), frequency=frequency, noise=noise, fmt=fmt,
-        standalone=standalone,
+        standalone=standalone, values=d.values, notes=d.notes, parameters=d.opamps,
+        resistors=d.resistors, grade=_grade(study), operating=study.operating,
     )  # fmt: skip
+
+
+def _grade(study: Any) -> str:
+    """The grade the budget took from the parameter sets (its default: the limits)."""
+    return study.design.budget.grade if study.design.budget is not None else "max"
+
+
+def _source(study: Any) -> str:
+    """The design file, for warnings."""
+    return str(study.design.source)
 
 
 def _response_points(r: Any) -> list[float]:
@@ -332,7 +358,7 @@ def _response_points(r: Any) -> list[float]:
 
 
 def _summary(study: Any, out: TextIO) -> None:
-    from .numeric.units import format_si
+    from .output.circuit_text import element_lines
 
     d, res = study.design, study.result
 
@@ -346,10 +372,15 @@ def _summary(study: Any, out: TextIO) -> None:
         say(d.notes)
         say()
     say("Elements:")
-    for e in d.circuit.elements:
-        value = d.values.get(e.name)
-        shown = f" = {format_si(float(value), _unit_of(e))}" if value is not None else ""
-        say(f"  {e.describe()}{shown}")
+    for line in element_lines(d.circuit, d.values, d.opamps, d.resistors, _grade(study)):
+        say(f"  {line}")
+    say()
+    say("Nominal operating point (signals at their values, error sources at zero, DC):")
+    if study.operating is not None:
+        for line in study.operating.lines():
+            say(f"  {line}")
+    else:
+        say(f"  not computed: {study.operating_problem}")
     say()
     say(f"Terms of V({target}), each source times its coefficient:")
     width = max((len(str(s)) for s in res.terms), default=4)
@@ -386,12 +417,6 @@ def _summary(study: Any, out: TextIO) -> None:
     if study.noise is not None:
         say()
         say(study.noise.to_text())
-
-
-def _unit_of(element: Any) -> str:
-    units = {"resistor": "Ω", "capacitor": "F", "inductor": "H", "voltage source": "V",
-             "current source": "A"}  # fmt: skip
-    return units.get(element.kind, "")
 
 
 class _Progress:

@@ -70,8 +70,8 @@ def _known_symbols(circuit: Circuit) -> dict[str, sp.Symbol]:
         else:
             sym = circuit.symbol(e.name)
             known[sym.name] = sym
-        for free in getattr(e, "value", sp.S.Zero).free_symbols:
-            known.setdefault(free.name, free)
+    for name, free in circuit.free_symbols_by_name().items():
+        known.setdefault(name, free)  # user symbols in values, gain= and parameters
     return known
 
 

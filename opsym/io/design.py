@@ -51,6 +51,7 @@ PARAMETER_UNITS: dict[str, str | None] = {
     "a_typ": None, "a_min": None,
     "cmrr_typ_db": "dB", "cmrr_min_db": "dB", "psrr_typ_db": "dB", "psrr_min_db": "dB",
     "gbw_typ": "Hz", "en_typ": "V/√Hz", "in_typ": "A/√Hz", "fce": "Hz", "fci": "Hz",
+    "rail_neg": "V", "rail_pos": "V", "swing_headroom": "V", "cm_headroom": "V",
 }  # fmt: skip
 #: Numbers an op-amp table may give for its own symbols (``U1.Vcm`` ...), with the
 #: unit of each and the gain model or kind of error source that uses it.
@@ -163,6 +164,10 @@ class Design:
         Report bias terms as ``Ib``/``Ios`` (true) or ``Ib+``/``Ib-``.
     notes : str
         Free text for the design notes.
+    rails : mapping of str to (sympy.Expr, sympy.Expr)
+        Supply rails (V, negative then positive) an op-amp's table gives.
+    supply : (sympy.Expr, sympy.Expr) or None
+        The design-wide rails, for every op-amp without its own.
     series : str
         The E-series for the standard values that meet null conditions.
     source : str
@@ -186,9 +191,11 @@ class Design:
     series: str = "E96"
     response: ResponseSettings | None = None
     noise: NoiseSettings | None = None
+    rails: Mapping[str, tuple[sp.Expr, sp.Expr]] = field(default_factory=dict)
+    supply: tuple[sp.Expr, sp.Expr] | None = None
 
     def __post_init__(self) -> None:
-        for name in ("values", "opamps", "resistors"):
+        for name in ("values", "opamps", "resistors", "rails"):
             object.__setattr__(self, name, MappingProxyType(dict(getattr(self, name))))
 
     @property

@@ -71,7 +71,7 @@ else:  # pragma: no cover - Python 3.10 reads TOML with the tomli backport
 __all__ = ["load_design", "parse_design"]  # the Design record lives in .design
 
 _MAX_BYTES = 1_000_000
-_TOP_KEYS = ("format", "title", "notes", "output", "input", *ELEMENT_TABLES)
+_TOP_KEYS = ("format", "title", "notes", "output", "input", "rails", *ELEMENT_TABLES)
 _SETTING_TABLES = ("analysis", "budget", "tolerance", "response", "noise")
 
 
@@ -123,6 +123,7 @@ class _Reader(SettingsReader):
         self.resistors: dict[str, ResistorParams] = {}
         self.circuit = Circuit()
         self.kinds: dict[str, tuple[str, ...]] = {}
+        self.rails: dict[str, tuple[sp.Expr, sp.Expr]] = {}
 
     def read(self) -> Design:
         top = self.top
@@ -131,6 +132,7 @@ class _Reader(SettingsReader):
             raise top.error("format", f"format {fmt} is not known; this opsym reads format 1")
         title = top.take_str("title", default=None)
         notes = top.take_str("notes", default="") or ""
+        supply = self.take_rails(top)
         if title is None:
             stem = os.path.splitext(os.path.basename(self.file))[0]
             title = stem if self.file != "<text>" else "design"
@@ -186,7 +188,7 @@ class _Reader(SettingsReader):
         return Design(
             circuit, output, self.values, signal, self.opamps, self.resistors, nulls,
             sensitivity, budget, tolerance, average, notes, self.file, default, series,
-            response=response, noise=noise,
+            response=response, noise=noise, rails=self.rails, supply=supply,
         )  # fmt: skip
 
     # -- elements ----------------------------------------------------------------------
@@ -292,6 +294,9 @@ class _Reader(SettingsReader):
         if len(set(include)) != len(include):
             raise t.error("include", "a non-ideality is listed twice")
         self.opamp_values(name, t, gain, include)
+        own = self.take_rails(t)
+        if own is not None:
+            self.rails[name] = own
         if t.has("parameters"):
             self.opamps[name] = self.parameter_set(name, t)
         flagged = ("offset", "bias", "cmrr", "psrr")  # Circuit.opamp's own switches
@@ -333,6 +338,20 @@ class _Reader(SettingsReader):
                         f"include or remove {what}"
                     )  # fmt: skip
             self.values[f"{name}.{what}"] = value
+
+    @staticmethod
+    def take_rails(t: Table) -> tuple[sp.Expr, sp.Expr] | None:
+        """``rails = ["-15 V", "15 V"]``: the negative and the positive supply rail."""
+        if not t.has("rails"):
+            return None
+        raw = t.raw("rails")
+        hint = 'give the negative and the positive rail, e.g. rails = ["-15 V", "15 V"]'
+        if not isinstance(raw, list) or len(raw) != 2:
+            raise t.error("rails", hint)
+        neg, pos = (t.value_of(v, "rails", unit="V") for v in raw)
+        if not (neg.is_number and pos.is_number) or not neg < pos:
+            raise t.error("rails", f"{neg} V and {pos} V: {hint} (negative first)")
+        return neg, pos
 
     def parameter_set(self, name: str, t: Table) -> OpAmpParams:
         raw = t.raw("parameters")

@@ -149,6 +149,8 @@ class _Writer:
         self.key("output", out)
         if b and b.signal is not None and self._signals() != [b.signal]:
             self.key("input", b.signal)
+        if b and b.supply is not None:
+            self.key("rails", _rails(b.supply))
         for cls, table in _TABLE_OF.items():
             rows = [e for e in self.circuit.elements if type(e) is cls]
             if rows:
@@ -230,6 +232,8 @@ class _Writer:
                 text = _text(self.nominal[name], name)
                 self.key(what, text if what in ("Vcm", "dVs") else _with_unit(text, unit))
                 self.written.add(name)
+        if self.base and amp.name in self.base.rails:
+            self.key("rails", _rails(self.base.rails[amp.name]))
         params = self.base.opamps.get(amp.name) if self.base else None
         if params is not None:
             shipped = [k for k, v in OPAMP_SETS.items() if v == params]
@@ -343,6 +347,10 @@ def _parameter_fields(p: OpAmpParams) -> dict[str, Any]:
         if law.kind == "doubling" and float(f"{law.doubling_c:g}") != law.doubling_c:
             out["bias_law"] = f"doubling {law.doubling_c!r}"
     return out
+
+
+def _rails(pair: tuple[sp.Expr, sp.Expr]) -> list[str]:
+    return [_with_unit(_text(v, "rails"), "V") for v in pair]
 
 
 def _with_unit(text: str, unit: str) -> str:

@@ -287,7 +287,8 @@ class Circuit:
         ``"U1.Vos"``, ``"U1.Ib+"``, ``"U1.Ib-"``, ``"U1.Ib"``, ``"U1.Ios"``,
         ``"U1.A"``, ``"U1.CMRR"``, ``"U1.Vcm"``, ``"U1.PSRR"``, ``"U1.dVs"``,
         ``"U1.A0"``, ``"U1.GBW"``, ``"U1.en"``, ``"U1.in"``… the op-amp's own;
-        ``"s"`` the Laplace variable.
+        ``"s"`` the Laplace variable; any other name a symbol the elements use
+        (in a value or a ``gain=`` expression, see :meth:`free_symbols_by_name`).
 
         Examples
         --------
@@ -301,6 +302,8 @@ class Circuit:
         if name == "s" and "s" not in self._elements:
             return LAPLACE
         owner, dot, what = name.partition(".")
+        if owner not in self._elements and name in self.free_symbols_by_name():
+            return self.free_symbols_by_name()[name]  # a user symbol in a value or gain=
         element = self.element(owner)
         if not dot:
             if isinstance(element, (VoltageSource, CurrentSource)):
@@ -320,6 +323,35 @@ class Circuit:
             )
             raise UnknownNameError(f"no symbol named {name!r}: {hint}")
         return opamp_symbol(owner, what)
+
+    def free_symbols_by_name(self) -> dict[str, sp.Symbol]:
+        """Every symbol the elements use that is not a source, by name.
+
+        Element values, op-amp gain expressions (``gain=A0/(1 + s/w1)``) and
+        the non-ideality parameters; ``s`` is left out.
+
+        Examples
+        --------
+        >>> import sympy as sp
+        >>> c = Circuit()
+        >>> w1 = sp.Symbol("w1", positive=True)
+        >>> c.opamp("U1", "p", "n", "out", gain=10**5 / (1 + LAPLACE / w1))
+        >>> c.free_symbols_by_name()["w1"] == w1
+        True
+        """
+        found: dict[str, sp.Symbol] = {}
+        for e in self._elements.values():
+            exprs = [getattr(e, "value", None)]
+            if isinstance(e, OpAmp):
+                exprs.append(e.gain)
+                for kind in e.nonideals:
+                    exprs.extend(kind.parameters(e.name))
+            for expr in exprs:
+                if isinstance(expr, sp.Basic):
+                    for sym in expr.free_symbols:
+                        if isinstance(sym, sp.Symbol) and sym != LAPLACE:
+                            found.setdefault(sym.name, sym)
+        return found
 
     def analyze(
         self,

@@ -5,7 +5,9 @@ terms: offset voltage, its drift, bias and offset currents, open-loop gain,
 CMRR and PSRR, each as a typical value and a limit (maximum, or minimum for
 gain and rejection ratios). Optional typical values describe the dynamics and
 noise: gain-bandwidth product, voltage and current noise densities and their
-1/f corners. A :class:`BiasLaw` says how the bias current moves with
+1/f corners. Optional supply rails, with the output swing and input
+common-mode range as headroom to each rail, let a report check that the
+nominal operating point fits. A :class:`BiasLaw` says how the bias current moves with
 temperature. A :class:`ResistorParams` holds a tolerance and a TCR.
 
 The shipped sets are **invented and generic**, of the orders of magnitude the
@@ -14,7 +16,7 @@ them to explore, then put your part's datasheet values in a set of your own.
 
 Units: volts, amperes, V/V, dB for CMRR/PSRR (as datasheets give them), V/°C
 for drift, hertz for GBW and corners, V/√Hz and A/√Hz for noise densities,
-fractions for tolerance and 1/°C for TCR.
+fractions for tolerance and 1/°C for TCR, volts for rails and headroom.
 
 Examples
 --------
@@ -142,6 +144,13 @@ class OpAmpParams:
         (white part). ``None``: not given.
     fce, fci : float or None
         1/f corner frequencies of the voltage and current noise, Hz (0: white).
+    rail_neg, rail_pos : float or None
+        Supply rails, V (negative and positive; ``0`` for a single supply).
+        Give both or neither.
+    swing_headroom : float or None
+        How close the output swings to each rail, V (``0``: rail to rail).
+    cm_headroom : float or None
+        How close the input common-mode voltage may come to each rail, V.
     """
 
     name: str
@@ -166,6 +175,10 @@ class OpAmpParams:
     in_typ: float | None = None
     fce: float | None = None
     fci: float | None = None
+    rail_neg: float | None = None
+    rail_pos: float | None = None
+    swing_headroom: float | None = None
+    cm_headroom: float | None = None
 
     def __post_init__(self) -> None:
         for f in dataclasses.fields(self):
@@ -182,12 +195,33 @@ class OpAmpParams:
             if f.name.startswith(("a_", "cmrr", "psrr", "gbw")):
                 if not v > 0:
                     raise BudgetError(f"op-amp set {self.name!r}: {f.name}={v} must be > 0")
-            elif f.name != "ib_typ" and f.name != "ib_max" and v < 0:
+            elif f.name not in ("ib_typ", "ib_max", "rail_neg", "rail_pos") and v < 0:
                 raise BudgetError(
                     f"op-amp set {self.name!r}: {f.name}={v} is a magnitude; give it >= 0"
                 )
         if not isinstance(self.bias_law, BiasLaw):
             raise BudgetError(f"op-amp set {self.name!r}: bias_law must be a BiasLaw")
+        self._check_rails()
+
+    def _check_rails(self) -> None:
+        neg, pos = self.rail_neg, self.rail_pos
+        if (neg is None) != (pos is None):
+            raise BudgetError(
+                f"op-amp set {self.name!r}: give both rail_neg and rail_pos (V), or neither"
+            )
+        if neg is None or pos is None:
+            return
+        if not (math.isfinite(neg) and math.isfinite(pos) and neg < pos):
+            raise BudgetError(
+                f"op-amp set {self.name!r}: rails {neg} V and {pos} V must be finite with "
+                "rail_neg < rail_pos"
+            )
+        room = (self.swing_headroom or 0.0, self.cm_headroom or 0.0)
+        if any(2 * h >= pos - neg for h in room):
+            raise BudgetError(
+                f"op-amp set {self.name!r}: headroom {max(room)} V from each rail leaves no "
+                f"range between {neg} V and {pos} V"
+            )
 
     # -- values at a grade and temperature ------------------------------------------
 
@@ -281,7 +315,8 @@ class OpAmpParams:
         if "name" not in data:
             raise BudgetError("op-amp set: give it a 'name'")
         units = {"vos": "V", "dri": "V/°C", "ib_": "A", "ios": "A", "a_t": "V/V", "a_m": "V/V",
-                 "gbw": "Hz", "en_": "V/√Hz", "in_": "A/√Hz", "fce": "Hz", "fci": "Hz"}
+                 "gbw": "Hz", "en_": "V/√Hz", "in_": "A/√Hz", "fce": "Hz", "fci": "Hz",
+                 "rai": "V", "swi": "V", "cm_": "V"}  # fmt: skip
         kw: dict[str, Any] = {}
         for key, raw in data.items():
             where = f"op-amp set {data['name']!r} field {key}"
@@ -301,7 +336,10 @@ class OpAmpParams:
 
 
 #: Fields that may be ``None`` (not given).
-_OPTIONAL = frozenset({"gbw_typ", "en_typ", "in_typ", "fce", "fci"})
+_OPTIONAL = frozenset({
+    "gbw_typ", "en_typ", "in_typ", "fce", "fci", "rail_neg", "rail_pos", "swing_headroom",
+    "cm_headroom",
+})  # fmt: skip
 
 
 def _db(raw: Any, where: str) -> float:
@@ -386,7 +424,9 @@ class ResistorParams:
 
 
 #: Invented generic op-amp sets (no real part): typical / limit values of the usual order.
-#: Noise is typical only, as datasheets give it: FET and CMOS inputs have the shot noise
+#: Supplies: ±15 V for the bipolar and JFET sets, a single 5 V for the CMOS ones (rail-to-rail
+#: output, inputs to the rails). Noise is typical only, as datasheets
+#: give it: FET and CMOS inputs have the shot noise
 #: of their leakage, white (fci = 0); a zero-drift part chops away its 1/f noise (fce = 0)
 #: but its switching adds current noise.
 OPAMP_SETS: dict[str, OpAmpParams] = {
@@ -400,6 +440,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             a_typ=5e6, a_min=1e6, cmrr_typ_db=130, cmrr_min_db=120,
             psrr_typ_db=120, psrr_min_db=110,
             gbw_typ=1e6, en_typ=10e-9, in_typ=0.1e-12, fce=5.0, fci=100.0,
+            rail_neg=-15.0, rail_pos=15.0, swing_headroom=1.2, cm_headroom=1.5,
         ),
         OpAmpParams(
             "generic general-purpose bipolar",
@@ -409,6 +450,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             a_typ=2e5, a_min=2e4, cmrr_typ_db=90, cmrr_min_db=70,
             psrr_typ_db=90, psrr_min_db=76,
             gbw_typ=1e6, en_typ=20e-9, in_typ=0.5e-12, fce=100.0, fci=300.0,
+            rail_neg=-15.0, rail_pos=15.0, swing_headroom=1.5, cm_headroom=2.0,
         ),
         OpAmpParams(
             "generic JFET",
@@ -418,6 +460,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             a_typ=2e5, a_min=5e4, cmrr_typ_db=100, cmrr_min_db=80,
             psrr_typ_db=100, psrr_min_db=80, bias_law=BiasLaw("doubling", 10.0),
             gbw_typ=4e6, en_typ=12e-9, in_typ=10e-15, fce=200.0, fci=0.0,
+            rail_neg=-15.0, rail_pos=15.0, swing_headroom=1.5, cm_headroom=3.0,
         ),
         OpAmpParams(
             "generic CMOS",
@@ -427,6 +470,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             a_typ=1e6, a_min=1e5, cmrr_typ_db=95, cmrr_min_db=80,
             psrr_typ_db=95, psrr_min_db=80, bias_law=BiasLaw("doubling", 10.0),
             gbw_typ=2e6, en_typ=20e-9, in_typ=2e-15, fce=1000.0, fci=0.0,
+            rail_neg=0.0, rail_pos=5.0, swing_headroom=0.05, cm_headroom=0.0,
         ),
         OpAmpParams(
             "generic zero-drift CMOS",
@@ -436,6 +480,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             a_typ=1e7, a_min=1e6, cmrr_typ_db=130, cmrr_min_db=115,
             psrr_typ_db=130, psrr_min_db=115, bias_law=BiasLaw("doubling", 10.0),
             gbw_typ=1.5e6, en_typ=30e-9, in_typ=100e-15, fce=0.0, fci=0.0,
+            rail_neg=0.0, rail_pos=5.0, swing_headroom=0.05, cm_headroom=0.0,
         ),
     )
 }  # fmt: skip
