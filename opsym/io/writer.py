@@ -60,8 +60,15 @@ from ..model.elements import (
 )
 from ..model.nonideal import KINDS, SinglePole
 from ..model.symbols import component_symbol, opamp_symbol, source_symbol
-from ..numeric.params import OPAMP_SETS, RESISTOR_SETS, BiasLaw, OpAmpParams, ResistorParams
-from .design import DEFAULT_INCLUDE, FORMAT, OPAMP_VALUES, PARAMETER_UNITS, Design
+from ..numeric.params import (
+    OPAMP_SETS,
+    RESISTOR_SETS,
+    BiasLaw,
+    OpAmpParams,
+    ResistorParams,
+    field_units,
+)
+from .design import DEFAULT_INCLUDE, FORMAT, Design, opamp_values
 from .formatting import format_value, plain_decimal
 
 __all__ = ["dump_design"]
@@ -163,7 +170,7 @@ class _Writer:
         if unplaced:
             raise DesignFileError(
                 f"dump_design: no place for the values of {', '.join(unplaced)}; design files "
-                f"hold numbers of elements and each op-amp's {', '.join(OPAMP_VALUES)}"
+                f"hold numbers of elements and each op-amp's {', '.join(opamp_values())}"
             )
         if b:
             self.settings(b)
@@ -226,7 +233,7 @@ class _Writer:
             kinds.append(n.kind)
         if kinds != list(DEFAULT_INCLUDE):
             self.key("include", kinds)
-        for what, (unit, _needs) in OPAMP_VALUES.items():
+        for what, (unit, _needs) in opamp_values().items():
             name = f"{amp.name}.{what}"
             if name in self.nominal:
                 text = _text(self.nominal[name], name)
@@ -335,9 +342,9 @@ def _parameter_fields(p: OpAmpParams) -> dict[str, Any]:
     out: dict[str, Any] = {"name": p.name}
     if p.description:
         out["description"] = p.description
-    for key in PARAMETER_UNITS:
-        v = getattr(p, key)
-        if v is not None and v != getattr(default, key):
+    for key in field_units():
+        v = p.extra.get(key) if key in p.extra else getattr(p, key, None)
+        if v is not None and v != getattr(default, key, None):
             if not math.isfinite(v):
                 raise DesignFileError(f"dump_design: {p.name} {key} = {v} cannot be written")
             out[key] = float(v)

@@ -53,6 +53,7 @@ __all__ = [
     "SinglePole",
     "SupplyRejection",
     "VoltageNoise",
+    "kind_of",
 ]
 
 
@@ -341,3 +342,17 @@ class SinglePole:
 
     def __repr__(self) -> str:
         return "SinglePole()"
+
+
+def kind_of(suffix: str) -> str | None:
+    """The key of the kind, or gain model, that declares the op-amp symbol ``suffix``.
+
+    Examples
+    --------
+    >>> kind_of("Vcm"), kind_of("GBW"), kind_of("A"), kind_of("R1")
+    ('cmrr', 'pole', 'finite', None)
+    """
+    for key, kind in KINDS.items():
+        if any(spec.suffix == suffix for spec in kind.symbols):
+            return key
+    return {"A": "finite", "A0": SinglePole.kind, "GBW": SinglePole.kind}.get(suffix)
