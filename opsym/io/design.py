@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any
 import sympy as sp
 
 from ..model.circuit import Circuit
+from ..model.elements import TWO_TERMINALS, OpAmp
 from ..model.nonideal import kind_of
 from ..model.symbols import SYMBOLS
 from ..numeric.params import OpAmpParams, ResistorParams
@@ -40,9 +41,7 @@ __all__ = [
 FORMAT = 1
 
 #: Element tables, in the order they are read and written.
-ELEMENT_TABLES = (
-    "resistors", "capacitors", "inductors", "voltage-sources", "current-sources", "opamps",
-)  # fmt: skip
+ELEMENT_TABLES = (*(cls.table for cls in TWO_TERMINALS), OpAmp.table)
 #: What an op-amp carries without ``include``: the defaults of ``Circuit.opamp``.
 DEFAULT_INCLUDE = ("offset", "bias", "vnoise", "inoise")
 def opamp_values() -> dict[str, tuple[str, str]]:

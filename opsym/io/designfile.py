@@ -45,7 +45,7 @@ import sympy as sp
 
 from ..errors import DesignFileError, InvalidValueError, OpsymError
 from ..model.circuit import Circuit
-from ..model.elements import CurrentSource, VoltageSource
+from ..model.elements import TWO_TERMINALS, CurrentSource, VoltageSource
 from ..model.nonideal import KINDS, SinglePole
 from ..model.symbols import (
     OPAMP_PARAMETERS,
@@ -236,8 +236,7 @@ class _Reader(SettingsReader):
         self, circuit: Circuit, kind: str, name: str, t: Table,
         equations: dict[str, tuple[Table, str]],
     ) -> None:  # fmt: skip
-        unit = {"resistors": "Ω", "capacitors": "F", "inductors": "H",
-                "voltage-sources": "V"}.get(kind, "A")  # fmt: skip
+        unit = next(cls.unit for cls in TWO_TERMINALS if cls.table == kind)
         if kind == "voltage-sources":
             a, b = t.take_node("plus"), t.take_node("minus")
         elif kind == "current-sources":

@@ -51,9 +51,8 @@ import sympy as sp
 from ..errors import DesignFileError, OpsymError
 from ..model.circuit import Circuit
 from ..model.elements import (
-    Capacitor,
+    TWO_TERMINALS,
     CurrentSource,
-    Inductor,
     OpAmp,
     Resistor,
     VoltageSource,
@@ -74,13 +73,6 @@ from .formatting import format_value, plain_decimal
 __all__ = ["dump_design"]
 
 _BARE = re.compile(r"^[A-Za-z0-9_-]+$")
-_TABLE_OF = {
-    Resistor: "resistors",
-    Capacitor: "capacitors",
-    Inductor: "inductors",
-    VoltageSource: "voltage-sources",
-    CurrentSource: "current-sources",
-}
 #: A number as format_number writes it, split into mantissa and SI prefix.
 _PREFIXED = re.compile(r"^(-?[0-9.]+(?:e-?[0-9]+)?)([yzafpnumkMGT]?)$")
 
@@ -158,10 +150,10 @@ class _Writer:
             self.key("input", b.signal)
         if b and b.supply is not None:
             self.key("rails", _rails(b.supply))
-        for cls, table in _TABLE_OF.items():
+        for cls in TWO_TERMINALS:
             rows = [e for e in self.circuit.elements if type(e) is cls]
             if rows:
-                self.lines += ["", f"[{table}]"]
+                self.lines += ["", f"[{cls.table}]"]
                 for e in rows:
                     self.lines.append(f"{_key(e.name)} = {_inline(self.two_terminal(e))}")
         for amp in self.circuit.opamps:

@@ -87,6 +87,17 @@ class NoiseSpectrum:
     corner: sp.Expr
 
 
+_POSITIVE = (("positive", True),)
+#: The gain models' symbols: the finite gain ``A`` and the single pole's ``A0``, ``GBW``.
+register_symbols(
+    SymbolSpec("A", "", "A", "open-loop gain A", _POSITIVE, datasheet="a", role="parameter"),
+    SymbolSpec("A0", "", r"A_{0}", "DC open-loop gain A0", _POSITIVE, datasheet="a",
+               file_value=True, role="parameter"),
+    SymbolSpec("GBW", "Hz", r"\mathrm{GBW}", "gain-bandwidth product GBW", _POSITIVE,
+               datasheet="gbw", file_value=True, role="parameter"),
+)  # fmt: skip
+
+
 #: Every kind, by its key, in the order they were defined (results list them so);
 #: each :class:`NonIdeal` subclass with a ``kind`` adds itself.
 KINDS: dict[str, type[NonIdeal]] = {}
@@ -300,15 +311,6 @@ class CurrentNoise(NonIdeal):
         return tuple(NoiseSpectrum(s, density, corner) for s in self.sources(opamp))
 
 
-_POSITIVE = (("positive", True),)
-#: The gain models' symbols: the finite gain ``A`` and the single pole's ``A0``, ``GBW``.
-register_symbols(
-    SymbolSpec("A", "", "A", "open-loop gain A", _POSITIVE, datasheet="a", role="parameter"),
-    SymbolSpec("A0", "", r"A_{0}", "DC open-loop gain A0", _POSITIVE, datasheet="a",
-               file_value=True, role="parameter"),
-    SymbolSpec("GBW", "Hz", r"\mathrm{GBW}", "gain-bandwidth product GBW", _POSITIVE,
-               datasheet="gbw", file_value=True, role="parameter"),
-)  # fmt: skip
 
 
 class SinglePole:
