@@ -2,9 +2,9 @@
 
 Two tools, both linear in the size of the expression:
 
-* :class:`Exact` inserts exact numbers with ``xreplace`` (never ``subs``, whose
-  pattern matching is quadratic in the tree and dominated budget time on long
-  cascades) and evaluates once. The numbers are exact rationals, so a balanced
+* :class:`Exact` inserts exact numbers by replacement, as ``xreplace`` does
+  (never ``subs``, whose matching dominated budget time on long cascades), and
+  evaluates once, each shared subexpression once. The numbers are exact rationals, so a balanced
   network's cancellation (a common-mode gain of exactly 0) stays exact, and the
   huge intermediate constants of a long cascade neither overflow nor round.
 * :func:`compile_columns` turns an expression into a NumPy function of columns
@@ -30,7 +30,7 @@ Examples
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -59,10 +59,17 @@ def exact_number(x: float) -> sp.Expr:
 
 
 class Exact:
-    """Exact evaluation of expressions at fixed symbol values, by ``xreplace``."""
+    """Exact evaluation of expressions at fixed symbol values.
+
+    A replacement like ``xreplace``, but without recursion and with one memo of
+    every subexpression evaluated so far: the coefficients of one result share
+    their downstream factors (a cascade's stage k and k + 1 share the product of
+    every later stage), so a budget evaluates each shared factor once.
+    """
 
     def __init__(self, values: Mapping[sp.Symbol, sp.Expr]) -> None:
         self.values = dict(values)
+        self._memo: dict[sp.Basic, sp.Basic] = dict(self.values)
 
     def value(self, expr: sp.Expr, what: str) -> sp.Expr:
         """``expr`` with the values in: an exact number, or :class:`BudgetError`.
@@ -70,7 +77,7 @@ class Exact:
         ``1/oo`` is 0 (an infinite CMRR removes its term); a symbol left over
         is named in the message.
         """
-        v = expr.xreplace(self.values) if self.values else expr
+        v = self._replaced(expr)
         leftover = v.free_symbols
         if leftover:
             missing = ", ".join(sorted(s.name for s in leftover))
@@ -83,6 +90,40 @@ class Exact:
     def number(self, expr: sp.Expr, what: str) -> float:
         """``expr`` with the values in, as a finite real float."""
         return to_float(self.value(expr, what), what)
+
+    def _replaced(self, expr: sp.Basic) -> Any:
+        memo = self._memo
+        stack: list[tuple[sp.Basic, bool]] = [(expr, False)]
+        while stack:
+            node, ready = stack.pop()
+            if node in memo:
+                continue
+            if not node.args:
+                memo[node] = node
+            elif not ready:
+                stack.append((node, True))
+                stack.extend((a, False) for a in node.args if a not in memo)
+            else:
+                args = [memo[a] for a in node.args]
+                same = all(n is a for n, a in zip(args, node.args, strict=True))
+                memo[node] = node if same else node.func(*args)
+        return memo[expr]
+
+
+def free_symbols_of(exprs: Iterable[sp.Basic]) -> set[sp.Symbol]:
+    """The symbols of several expressions, each shared subexpression visited once."""
+    seen: set[sp.Basic] = set()
+    found: set[sp.Symbol] = set()
+    stack = list(exprs)
+    while stack:
+        node = stack.pop()
+        if node in seen:
+            continue
+        seen.add(node)
+        if isinstance(node, sp.Symbol):
+            found.add(node)
+        stack.extend(node.args)
+    return found
 
 
 def to_float(v: sp.Expr, what: str) -> float:

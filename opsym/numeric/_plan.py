@@ -6,7 +6,7 @@ budget module then evaluates the plan at any temperature cheaply
 (:func:`opsym.numeric.budget._evaluate`). Split from ``budget.py`` to keep each
 module to one job.
 
-Numbers go in exactly, by ``xreplace`` (:mod:`opsym.numeric._numbers`), into the
+Numbers go in exactly, by replacement (:mod:`opsym.numeric._numbers`), into the
 coefficients as solved: nothing is factored, simplified or re-derived first
 (an infinite open-loop gain is evaluated at 10^30, not by re-solving the
 circuit), so preparing a budget costs about as much as the solve.
@@ -25,7 +25,7 @@ import sympy as sp
 from ..errors import BudgetError, OpsymError
 from ..model.symbols import opamp_symbol
 from ._mismatch import MAX_CORNERS, REJECTED, Rejection, Spread
-from ._numbers import LARGE_GAIN, Exact, exact_number, to_float
+from ._numbers import LARGE_GAIN, Exact, exact_number, free_symbols_of, to_float
 from .adc import ADC
 from .params import OpAmpParams, ResistorParams
 from .units import format_si, parse_quantity
@@ -165,9 +165,7 @@ def _checked_options(grade: str, opamps: Any, adc: Any) -> dict[str, OpAmpParams
 
 def _names(terms: Mapping[sp.Symbol, sp.Expr]) -> dict[str, sp.Symbol]:
     """Every symbol of the terms by name, and the averaged bias names ``Ib``, ``Ios``."""
-    free: set[sp.Symbol] = set(terms)
-    for c in terms.values():
-        free |= c.free_symbols
+    free: set[sp.Symbol] = set(terms) | free_symbols_of(terms.values())
     for s in list(terms):
         if s.name.endswith(".Ib+"):
             owner = s.name[: -len(".Ib+")]
