@@ -22,6 +22,11 @@ Rules (stated again in every report's notes):
 * **Gain rows** need the signal's value (its full-scale input): finite
   open-loop gain gives (G(A) − G(∞))·Vsig; resistor tolerance gives the worst
   corner deviation of G times |Vsig| (first-order bound beyond 12 parts).
+* **Other sources' tolerance rows**: every other signal source with a non-zero
+  value (a common-mode input, a reference, a second input) gets the worst
+  change of its coefficient with resistor tolerance times |value|; one the
+  network nominally rejects is the "common-mode error from resistor mismatch",
+  and the budget states the network CMRR (:attr:`Budget.cmrr_db`).
 
 Examples
 --------
@@ -144,6 +149,8 @@ class Budget(TableViews):
     temperature: float
     notes: tuple[str, ...]
     input_unit: str = "V"  # of the input-referred column: "A" for a current input
+    #: min |Ad|/|Acm| of the resistor network over the tolerance corners, dB (None
+    #: without a differential signal and a common mode, or without ``resistors=``).
     cmrr_db: float | None = None  # the network's CMRR from resistor mismatch, worst case
 
     @property
