@@ -404,6 +404,8 @@ def _rejection(g_sig, coeff, common, grades, given, exact: Exact) -> Rejection |
             ad, acm = (g_sig - coeff) / 2, g_sig + coeff
         else:
             return None
+        if not acm.free_symbols:
+            return None  # a source that never reaches the output: no CMRR to state
         parts, (base_t, tcr) = _spread([ad, acm], grades, given)
     except BudgetError:  # values missing: no CMRR to state
         return None

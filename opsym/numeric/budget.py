@@ -76,8 +76,9 @@ class BudgetRow:
     Attributes
     ----------
     source : str
-        The source's name (``"U1.Vos"``), or ``"gain: open-loop"`` /
-        ``"gain: tolerance"`` for the gain rows.
+        The source's name (``"U1.Vos"``), ``"gain: open-loop"`` /
+        ``"gain: tolerance"`` for the gain rows, or ``"tolerance: Vcm"`` for
+        another source's coefficient moving with resistor tolerance.
     label : str
         Words for reports.
     value : float
@@ -193,6 +194,8 @@ class Budget(TableViews):
         for r in self.rows:
             if r.source.startswith("gain:"):
                 coef = f"ΔG = {r.coefficient:+.3g}"
+            elif r.source.startswith("tolerance:"):
+                coef = f"Δ = ±{abs(r.coefficient):.3g} V/" + r.unit
             elif r.unit == "A":
                 coef = format_si(r.coefficient, "Ω")  # V/A: the trade writes it in ohms
             else:
