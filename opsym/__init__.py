@@ -37,7 +37,6 @@ from .errors import (
 )
 from .io.design import Design
 from .io.designfile import load_design, parse_design
-from .io.values import parse_value
 from .io.writer import dump_design
 from .model import (
     BiasCurrents,
@@ -56,24 +55,27 @@ from .model.symbols import LAPLACE as s
 from .numeric import (
     ADC,
     BiasLaw,
-    Budget,
     OpAmpParams,
     ResistorParams,
-    budget_over_temperature,
     choose_for_null,
-    corner_values,
-    error_budget,
     format_si,
-    monte_carlo,
     opamp_parameters,
     parse_quantity,
     preferred_value,
     resistor_parameters,
-    tolerance_analysis,
 )
 from .output import FrequencySection, NoiseSection, design_note
 from .output.latex import transfer_latex
 from .output.noise import noise_latex
+from .study import (
+    Budget,
+    budget_over_temperature,
+    corner_values,
+    error_budget,
+    monte_carlo,
+    tolerance_analysis,
+)
+from .values import parse_value
 
 __version__ = "0.1.0"
 

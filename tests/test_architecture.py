@@ -22,11 +22,11 @@ LAYERS = (
     ("opsym.errors", "opsym.values"),
     ("opsym.model",),
     ("opsym.equations",),
-    ("opsym.analyses",),
     ("opsym.numeric",),
+    ("opsym.analyses",),
     ("opsym.output",),
-    ("opsym.study",),
     ("opsym.io",),
+    ("opsym.study",),
     ("opsym.cli", "opsym.demo", "opsym.__main__", "opsym"),
 )
 

@@ -23,10 +23,11 @@ import sympy as sp
 from ..equations.adjoint import Progress, product, solve_adjoint
 from ..equations.mna import DOMAINS, build_equations
 from ..errors import InvalidValueError, UnknownNameError
-from ..model.circuit import GROUND, Circuit, to_exact
+from ..model.circuit import GROUND, Circuit
 from ..model.elements import CurrentSource, OpAmp, VoltageSource
 from ..model.symbols import LAPLACE, OPAMP_PARAMETERS, source_symbol
 from ..model.topology import check_topology
+from ..values import to_exact
 from .result import Result, SourceInfo
 
 __all__ = ["coefficients_of", "derive", "output_weights", "resolve_values", "sources_of"]

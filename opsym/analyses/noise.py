@@ -46,12 +46,11 @@ import sympy as sp
 from ..equations.adjoint import solve_adjoint
 from ..equations.mna import build_equations
 from ..errors import BudgetError, InvalidValueError, UnknownNameError
-from ..model.circuit import Circuit, to_exact
+from ..model.circuit import Circuit
 from ..model.elements import CurrentSource, Resistor
 from ..model.nonideal import NoiseSpectrum
 from ..model.symbols import LAPLACE, thermal_symbol
 from ..model.topology import check_topology
-from ..numeric._views import TableViews
 from ..numeric.frequency import (
     IntegrationWarning,
     evaluation_form,
@@ -59,6 +58,8 @@ from ..numeric.frequency import (
     integrate_with_error,
     natural_frequencies,
 )
+from ..study._views import TableViews
+from ..values import to_exact
 from .derive import coefficients_of, output_weights, resolve_values, sources_of
 from .present import transfer_form
 from .result import SourceInfo

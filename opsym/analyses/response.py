@@ -15,7 +15,7 @@ import numpy as np
 import sympy as sp
 
 from ..errors import InvalidValueError, NoSolutionError
-from ..numeric.frequency import HALF_POWER_DB
+from ..numeric.frequency import HALF_POWER_DB, bandwidth, evaluation_form, evaluator
 
 __all__ = ["FrequencyResponse"]
 
@@ -71,7 +71,6 @@ class FrequencyResponse:
         self._need_s("response")
         sym = self._signal(source) if source is None else self._source_symbol(source)
         result = self.ideal() if ideal else self
-        from ..numeric.frequency import evaluator
 
         return evaluator(result._numeric_form(sym), f"the coefficient of {sym}")(f)
 
@@ -94,7 +93,6 @@ class FrequencyResponse:
         """
         self._need_s("bandwidth")
         sym = self._signal(source) if source is None else self._source_symbol(source)
-        from ..numeric.frequency import bandwidth, evaluator
 
         return bandwidth(evaluator(self._numeric_form(sym), f"the coefficient of {sym}"),
                          drop_db)  # fmt: skip
@@ -120,6 +118,5 @@ class FrequencyResponse:
             )
 
     def _numeric_form(self, sym: sp.Symbol) -> sp.Expr:
-        from ..numeric.frequency import evaluation_form
 
         return evaluation_form(self.compact_coefficient(sym), lambda: self.coefficient(sym))

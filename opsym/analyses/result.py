@@ -34,9 +34,10 @@ from typing import TYPE_CHECKING, Any
 import sympy as sp
 
 from ..errors import InvalidValueError, NoSolutionError, SingularCircuitError, UnknownNameError
-from ..model.circuit import Circuit, to_exact
+from ..model.circuit import Circuit
 from ..model.elements import OpAmp
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
+from ..values import to_exact
 from .present import at_infinity, tidy, transfer_form
 from .response import FrequencyResponse
 

@@ -84,7 +84,7 @@ class SensitivityRequest:
 
 @dataclass(frozen=True)
 class BudgetSettings:
-    """How to put numbers into the error budget (see :func:`opsym.numeric.budget.error_budget`).
+    """How to put numbers into the error budget (see :func:`opsym.study.budget.error_budget`).
 
     ``temperatures`` lists the temperatures (°C) to evaluate; ``adc_bits`` with
     ``adc_reference`` (V) and ``adc_range`` describe the converter;

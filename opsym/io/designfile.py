@@ -3,7 +3,7 @@
 The format is described in ``docs/design-files.md``. :func:`load_design` reads
 a file into a :class:`Design` (an :class:`opsym.Circuit` plus its settings);
 :func:`parse_design` does the same for text. Every value goes through the
-whitelist parser :func:`~opsym.io.values.parse_value`; nothing in a file is
+whitelist parser :func:`~opsym.values.parse_value`; nothing in a file is
 ever evaluated. Unknown keys are errors, and every error names the file, the
 table, the key and (when it can be found) the line.
 

@@ -67,6 +67,7 @@ from ..numeric.params import (
     ResistorParams,
     field_units,
 )
+from ..values import to_exact
 from .design import DEFAULT_INCLUDE, FORMAT, Design, opamp_values
 from .formatting import format_value, plain_decimal
 
@@ -114,7 +115,6 @@ def dump_design(
     if out is None:
         raise DesignFileError("dump_design: give the output node, e.g. output='out'")
     nominal: dict[str, sp.Expr] = dict(base.values) if base else {}
-    from ..model.circuit import to_exact
 
     for key, v in (values or {}).items():
         name = key.name if isinstance(key, sp.Symbol) else str(key)

@@ -20,16 +20,14 @@ Eq(R3, R1*R2/(R1 + R2))
 
 from __future__ import annotations
 
-import math
 import re
 from collections.abc import Iterable, Mapping
-from fractions import Fraction
-from numbers import Real
 from typing import TYPE_CHECKING, Any
 
 import sympy as sp
 
 from ..errors import DuplicateNameError, InvalidValueError, UnknownNameError, ValueSyntaxError
+from ..values import to_exact
 from .elements import (
     Capacitor,
     CurrentSource,
@@ -46,55 +44,12 @@ if TYPE_CHECKING:
     from ..analyses.noise import NoiseResult
     from ..analyses.result import Result
 
-__all__ = ["GROUND", "Circuit", "to_exact"]
+__all__ = ["GROUND", "Circuit"]
 
 #: The ground node's name; "gnd" (any case) is accepted as an alias.
 GROUND = "0"
 _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
 _NODE = re.compile(r"^[A-Za-z0-9_][A-Za-z0-9_+\-]*$")
-
-
-def to_exact(value: Any, where: str) -> sp.Expr:
-    """Turn a user number or expression into an exact SymPy value.
-
-    Floats become the exact rational of their shortest decimal form
-    (``0.1`` → ``1/10``), so the algebra stays exact; text goes through the
-    whitelist value parser (``"10k"``). ``where`` names the field for messages.
-
-    Examples
-    --------
-    >>> to_exact(4.7e-9, "C1")
-    47/10000000000
-    >>> to_exact("10k", "R1")
-    10000
-    """
-    if isinstance(value, bool) or value is None:
-        raise InvalidValueError(f"{where}: {value!r} is not a value; give a number or expression")
-    if isinstance(value, str):
-        from ..io.values import parse_value  # the whitelist parser, never sympify
-
-        return parse_value(value, where=where)
-    if isinstance(value, sp.Basic):
-        if not isinstance(value, sp.Expr):
-            raise InvalidValueError(f"{where}: {value!r} is not an expression")
-        if value.has(sp.nan, sp.zoo, sp.oo, -sp.oo):
-            raise InvalidValueError(f"{where}: value {value} is not finite; give a finite value")
-        if isinstance(value, sp.Float):
-            return sp.Rational(repr(float(value)))
-        return value
-    if isinstance(value, int):
-        return sp.Integer(value)
-    if isinstance(value, Fraction):
-        return sp.Rational(value.numerator, value.denominator)
-    if isinstance(value, Real):  # float, numpy scalars
-        x = float(value)
-        if not math.isfinite(x):
-            raise InvalidValueError(f"{where}: value {x} is not finite; give a finite number")
-        return sp.Rational(repr(x))
-    raise InvalidValueError(
-        f"{where}: cannot use a {type(value).__name__} as a value; "
-        "give a number, a SymPy expression or text such as '10k'"
-    )
 
 
 def _positive_value(value: Any, name: str, kind: str) -> sp.Expr:

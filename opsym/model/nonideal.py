@@ -38,7 +38,7 @@ from typing import ClassVar
 import sympy as sp
 
 from ..errors import DuplicateNameError
-from .symbols import SymbolSpec, opamp_symbol, register_symbols
+from .symbols import LAPLACE, SymbolSpec, opamp_symbol, register_symbols
 
 __all__ = [
     "KINDS",
@@ -337,7 +337,6 @@ class SinglePole:
 
     def gain(self, opamp: str) -> sp.Expr:
         """The open-loop gain ``A(s)`` of op-amp ``opamp``."""
-        from .symbols import LAPLACE
 
         a0, gbw = self.parameters(opamp)
         return 2 * sp.pi * gbw * a0 / (2 * sp.pi * gbw + a0 * LAPLACE)

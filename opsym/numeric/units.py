@@ -30,6 +30,7 @@ from typing import Any
 from quantiphy import QuantiPhyError, Quantity
 
 from ..errors import ValueSyntaxError
+from ..values import parse_value
 
 __all__ = [
     "db_to_ratio",
@@ -187,7 +188,6 @@ _PARSER_UNITS = {"Ω", "V", "A", "F", "Hz", "V/°C", "A/°C"}
 def _trade_notation(text: str, unit: str | None, where: str) -> float | None:
     """Forms quantiphy does not read but the design-file parser does (``4k7``, ``2R2``,
     ``5 µV/°C``), so one syntax holds everywhere; ``None`` if it cannot read them either."""
-    from ..io.values import parse_value
 
     want = _canonical_unit(unit) if unit else None
     try:

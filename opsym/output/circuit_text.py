@@ -36,6 +36,7 @@ from typing import Any
 
 import sympy as sp
 
+from ..model.nonideal import SinglePole
 from ..model.symbols import SYMBOLS
 from ..numeric.units import format_si, parse_quantity
 
@@ -102,7 +103,6 @@ def parameter_text(params: Any, grade: str = "max", omit: frozenset[str] = froze
 
 def _opamp_text(amp: Any, given: Mapping[str, Any]) -> str:
     """The gain model, the error-source kinds and the op-amp's given parameters."""
-    from ..model.nonideal import SinglePole
 
     if amp.gain is None:
         gain = "ideal (nullor)"

@@ -35,7 +35,7 @@ __all__ = ["noise_latex", "noise_markdown", "noise_table"]
 def noise_table(budget: NoiseBudget) -> Table:
     """The rows of ``budget`` largest first, totals in the footer, rules as notes."""
     from ..analyses.noise import PEAK_TO_PEAK_RULE
-    from ..numeric._plan import SHORT_CAUTION
+    from ..study._plan import SHORT_CAUTION
 
     band = f"{format_si(budget.f_low, 'Hz')} to {format_si(budget.f_high, 'Hz')}"
     if budget.f_high == float("inf"):

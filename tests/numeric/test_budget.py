@@ -1,4 +1,4 @@
-"""Error budgets (opsym.numeric.budget) and temperature sweeps (opsym.numeric.temperature)."""
+"""Error budgets (opsym.study.budget) and temperature sweeps (opsym.study.temperature)."""
 
 import math
 
@@ -8,9 +8,9 @@ import sympy as sp
 import opsym
 from opsym.errors import BudgetError
 from opsym.numeric.adc import ADC
-from opsym.numeric.budget import error_budget
 from opsym.numeric.params import OpAmpParams, ResistorParams, opamp_parameters
-from opsym.numeric.temperature import budget_over_temperature
+from opsym.study.budget import error_budget
+from opsym.study.temperature import budget_over_temperature
 
 
 def _follower_with_rs():

@@ -3,7 +3,7 @@
 :func:`_prepare` turns a :class:`~opsym.analyses.result.Result`, the user's values
 and the op-amp parameter sets into a :class:`_Plan` of numeric coefficients; the
 budget module then evaluates the plan at any temperature cheaply
-(:func:`opsym.numeric.budget._evaluate`). Split from ``budget.py`` to keep each
+(:func:`opsym.study.budget._evaluate`). Split from ``budget.py`` to keep each
 module to one job.
 
 Numbers go in exactly, by replacement (:mod:`opsym.numeric._numbers`), into the
@@ -23,12 +23,13 @@ import numpy as np
 import sympy as sp
 
 from ..errors import BudgetError, OpsymError
+from ..model.elements import CurrentSource
 from ..model.symbols import opamp_symbol
-from ._mismatch import MAX_CORNERS, REJECTED, Rejection, Spread
-from ._numbers import LARGE_GAIN, Exact, exact_number, free_symbols_of, to_float
-from .adc import ADC
-from .params import OpAmpParams, ResistorParams
-from .units import format_si, parse_quantity
+from ..numeric._mismatch import MAX_CORNERS, REJECTED, Rejection, Spread
+from ..numeric._numbers import LARGE_GAIN, Exact, exact_number, free_symbols_of, to_float
+from ..numeric.adc import ADC
+from ..numeric.params import OpAmpParams, ResistorParams
+from ..numeric.units import format_si, parse_quantity
 
 #: Words and units of each error source in the tables.
 WORDS = {
@@ -449,7 +450,6 @@ def _plan_notes(grade, derived, notes, adc, ref, signal_unit, sig) -> tuple[str,
 
 def _signal_unit(circuit: Any, signal: str | None) -> str:
     """``"A"`` when ``signal`` is a current source of ``circuit``, else ``"V"``."""
-    from ..model.elements import CurrentSource
 
     if circuit is None or signal is None:
         return "V"

@@ -52,6 +52,10 @@ from dataclasses import dataclass
 from typing import Any
 
 from ..errors import BudgetError
+from ..numeric.adc import ADC
+from ..numeric.params import REFERENCE_TEMPERATURE, OpAmpParams, ResistorParams
+from ..numeric.units import format_si
+from ..output.tables import Table
 from ._plan import (
     RSS_RULE,
     SIGNED,
@@ -62,9 +66,6 @@ from ._plan import (
     _prepare,
 )
 from ._views import TableViews
-from .adc import ADC
-from .params import REFERENCE_TEMPERATURE, OpAmpParams, ResistorParams
-from .units import format_si
 
 __all__ = ["RSS_RULE", "WORST_CASE_RULE", "Budget", "BudgetRow", "error_budget"]
 
@@ -181,7 +182,6 @@ class Budget(TableViews):
 
     def table(self):
         """The budget as an :class:`opsym.output.tables.Table`."""
-        from ..output.tables import Table
 
         headers = ["source", "value", "coefficient", "at output", "at input"]
         fs = self.full_scale or (self.adc.fsr if self.adc else None)
