@@ -27,11 +27,19 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import opsym
-from opsym import DesignFileError, OpAmpParams, ValueRangeError, ValueSyntaxError
+from opsym import (
+    BudgetError,
+    DesignFileError,
+    OpAmpParams,
+    ResistorParams,
+    ValueRangeError,
+    ValueSyntaxError,
+)
 from opsym.io.designfile import parse_design
 from opsym.io.values import MAX_LENGTH, PREFIXES, parse_value
 from opsym.numeric.budget import error_budget
 from opsym.numeric.eseries import preferred_value
+from opsym.numeric.tolerance import corner_values
 from opsym.numeric.units import parse_db, parse_fraction, parse_quantity
 
 # text, what it means (a number, or the error class), the unit written in the text
@@ -102,6 +110,12 @@ def _budget_value(text: str) -> float:
     return budget.row("U1.Vos").value
 
 
+def _tolerance_study(text: str) -> float:
+    r1, r2 = sp.symbols("R1 R2", positive=True)
+    _, _, table = corner_values([r2 / r1], {"R1": 1, "R2": text}, {"R1": "0 %"})
+    return float(table[0][0])
+
+
 def _preferred(text: str) -> float:
     return preferred_value(text)
 
@@ -136,6 +150,7 @@ ENTRY_POINTS: dict[str, tuple[Callable[[str], float], str | None]] = {
     "analyze(values=)": (_analyze_values, None),
     "Result.subs": (_result_subs, None),
     "error_budget values": (_budget_value, None),
+    "tolerance study values": (_tolerance_study, None),
     "preferred_value": (_preferred, None),
     "parse_quantity": (parse_quantity, None),
     "parse_fraction": (parse_fraction, "ratio"),
@@ -239,3 +254,15 @@ def test_parse_quantity_is_parse_value_as_a_float(mantissa, prefix, unit):
     assert parse_quantity(text) == float(exact)
     if prefix.lower() == "meg":  # SPICE3 MEG = 1e6 [mem]
         assert exact == sp.Rational(str(mantissa)) * 10**6
+
+
+def test_parameter_set_text_is_read_by_the_one_parser():
+    # ResistorParams.from_text reads ratios; an unknown word is an error, 1meg is 10**6
+    with pytest.raises(ValueSyntaxError, match="resistor tolerance"):
+        ResistorParams.from_text("1 furlong")
+    with pytest.raises(BudgetError, match="100 % or more"):
+        ResistorParams.from_text("1meg")  # read as 1e6 [SPICE3 MEG, mem], then refused
+    assert ResistorParams.from_text("0.1 %", "25 ppm/°C").tcr == pytest.approx(25e-6)
+    # a bias law's doubling step: a malformed number is a ValueSyntaxError, not a bare one
+    with pytest.raises(ValueSyntaxError, match="bias_law"):
+        OpAmpParams.from_mapping({"name": "t", "bias_law": "doubling 1.2.3"})
