@@ -54,12 +54,14 @@ _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
 _NODE = re.compile(r"^[A-Za-z0-9_][A-Za-z0-9_+\-]*$")
 
 
-def to_exact(value: Any, where: str) -> sp.Expr:
+def to_exact(value: Any, where: str, *, unit: str | None = None) -> sp.Expr:
     """Turn a user number or expression into an exact SymPy value.
 
     Floats become the exact rational of their shortest decimal form
     (``0.1`` → ``1/10``), so the algebra stays exact; text goes through the
-    whitelist value parser (``"10k"``). ``where`` names the field for messages.
+    whitelist value parser :func:`opsym.io.values.parse_value` (``"10k"``),
+    the one reader of values in opsym, which checks a unit written in the
+    text against ``unit`` when given. ``where`` names the field for messages.
 
     Examples
     --------
@@ -73,7 +75,7 @@ def to_exact(value: Any, where: str) -> sp.Expr:
     if isinstance(value, str):
         from ..io.values import parse_value  # the whitelist parser, never sympify
 
-        return parse_value(value, where=where)
+        return parse_value(value, where=where, unit=unit)
     if isinstance(value, sp.Basic):
         if not isinstance(value, sp.Expr):
             raise InvalidValueError(f"{where}: {value!r} is not an expression")
@@ -97,10 +99,14 @@ def to_exact(value: Any, where: str) -> sp.Expr:
     )
 
 
+#: The unit a value written as text must carry, if it carries one.
+_UNIT_OF = {"resistor": "Ω", "capacitor": "F", "inductor": "H", "op-amp gain": "ratio"}
+
+
 def _positive_value(value: Any, name: str, kind: str) -> sp.Expr:
     if value is None:
         return component_symbol(name)
-    v = to_exact(value, f"{kind} {name}")
+    v = to_exact(value, f"{kind} {name}", unit=_UNIT_OF.get(kind))
     if v.is_number:
         if v.is_zero:
             hint = " (for a wire, give both ends the same node name)" if kind == "resistor" else ""
