@@ -52,10 +52,10 @@ _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
 _NODE = re.compile(r"^[A-Za-z0-9_][A-Za-z0-9_+\-]*$")
 
 
-def _positive_value(value: Any, name: str, kind: str) -> sp.Expr:
+def _positive_value(value: Any, name: str, kind: str, unit: str) -> sp.Expr:
     if value is None:
         return component_symbol(name)
-    v = to_exact(value, f"{kind} {name}")
+    v = to_exact(value, f"{kind} {name}", unit=unit)
     if v.is_number:
         if v.is_zero:
             hint = " (for a wire, give both ends the same node name)" if kind == "resistor" else ""
@@ -94,19 +94,20 @@ class Circuit:
         """Add a resistor between nodes ``a`` and ``b``; ``None`` keeps it symbolic."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(Resistor(name, na, nb, _positive_value(value, name, "resistor")))
+        self._add(Resistor(name, na, nb, _positive_value(value, name, "resistor", Resistor.unit)))
 
     def capacitor(self, name: str, a: str, b: str, value: Any = None) -> None:
         """Add a capacitor: open at DC, admittance ``s·C`` in the s domain."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(Capacitor(name, na, nb, _positive_value(value, name, "capacitor")))
+        value = _positive_value(value, name, "capacitor", Capacitor.unit)
+        self._add(Capacitor(name, na, nb, value))
 
     def inductor(self, name: str, a: str, b: str, value: Any = None) -> None:
         """Add an inductor: a wire at DC, impedance ``s·L`` in the s domain."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(Inductor(name, na, nb, _positive_value(value, name, "inductor")))
+        self._add(Inductor(name, na, nb, _positive_value(value, name, "inductor", Inductor.unit)))
 
     def voltage_source(self, name: str, plus: str, minus: str, value: Any = None) -> None:
         """Add a signal voltage source, ``V(plus) - V(minus) = value``."""
@@ -176,7 +177,7 @@ class Circuit:
             )
         else:  # a number, an expression or text such as "100k"
             try:
-                a = _positive_value(gain, name + ".A", "op-amp gain")
+                a = _positive_value(gain, name + ".A", "op-amp gain", "ratio")
             except ValueSyntaxError as err:
                 raise InvalidValueError(
                     f"op-amp {name}: gain {gain!r} is not 'ideal', 'finite', 'pole' or a number "
