@@ -18,7 +18,7 @@ Examples
 <class 'opsym.model.circuit.Circuit'>
 """
 
-from .analyses.noise import NoiseBudget, NoiseResult
+from .analyses.noise import NoiseResult
 from .analyses.result import Result, SourceInfo
 from .errors import (
     BudgetError,
@@ -76,6 +76,7 @@ from .study import (
     monte_carlo,
     tolerance_analysis,
 )
+from .study.noise import NoiseBudget
 from .values import parse_value
 
 __version__ = "0.1.0"

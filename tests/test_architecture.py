@@ -19,7 +19,7 @@ PACKAGE = Path(__file__).parents[1] / "opsym"
 
 #: Lowest first. A module may import only from its own layer or a lower one.
 LAYERS = (
-    ("opsym.errors", "opsym.values"),
+    ("opsym.errors", "opsym.values", "opsym._services"),
     ("opsym.model",),
     ("opsym.equations",),
     ("opsym.numeric",),
@@ -83,7 +83,7 @@ def _imports(name: str, path: Path) -> list[tuple[str, bool]]:
 
 
 def _with_packages(target: str) -> list[str]:
-    """``opsym.a.b`` runs ``opsym``, ``opsym.a`` and ``opsym.a.b``."""
+    """``opsym.a.b`` runs ``opsym``, ``opsym.a`` and ``opsym.a.b`` (each ``__init__``)."""
     parts = target.split(".")
     return [".".join(parts[: i + 1]) for i in range(len(parts)) if ".".join(parts[: i + 1])
             in MODULES]  # fmt: skip
@@ -94,7 +94,8 @@ def _graph() -> dict[str, set[str]]:
     for name, path in MODULES.items():
         for target, _nested in _imports(name, path):
             for module in _with_packages(target):
-                if module != name and module != "opsym":  # every module sits under opsym
+                # A module's own packages are already importing when it runs.
+                if not (name == module or name.startswith(module + ".")):
                     graph[name].add(module)
     return graph
 

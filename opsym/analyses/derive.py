@@ -20,6 +20,7 @@ from typing import Any
 
 import sympy as sp
 
+from .._services import provides
 from ..equations.adjoint import Progress, product, solve_adjoint
 from ..equations.mna import DOMAINS, build_equations
 from ..errors import InvalidValueError, UnknownNameError
@@ -114,6 +115,7 @@ def sources_of(circuit: Circuit, noise: bool = False) -> list[SourceInfo]:
     return infos
 
 
+@provides("derive")
 def derive(
     circuit: Circuit,
     output,

@@ -26,6 +26,7 @@ from typing import TYPE_CHECKING, Any
 
 import sympy as sp
 
+from .._services import call
 from ..errors import DuplicateNameError, InvalidValueError, UnknownNameError, ValueSyntaxError
 from ..values import to_exact
 from .elements import (
@@ -344,9 +345,7 @@ class Circuit:
         >>> c.analyze("out", domain="s").coefficient("Vin")
         1/(C1*R1*s + 1)
         """
-        from ..analyses.derive import derive
-
-        return derive(self, output, values=values, progress=progress, domain=domain)
+        return call("derive", self, output, values=values, progress=progress, domain=domain)
 
     def noise(
         self,
@@ -386,8 +385,6 @@ class Circuit:
         >>> round(float(n.density(1000.0)) * 1e9, 3)  # nV/√Hz: 4kTR at 298.15 K
         12.832
         """
-        from ..analyses.noise import noise
-
         merged: dict[Any, Any] = {}
         for name, params in (opamps or {}).items():
             if not hasattr(params, "values_for"):
@@ -400,7 +397,8 @@ class Circuit:
             merged.update(params.values_for(name, "typical"))
         for key, value in (values or {}).items():
             merged[key.name if isinstance(key, sp.Symbol) else key] = value
-        return noise(self, output, values=merged, temperature=temperature, progress=progress)
+        return call("noise", self, output, values=merged, temperature=temperature,
+                    progress=progress)  # fmt: skip
 
     def __repr__(self) -> str:
         return f"Circuit({self.title!r}, {len(self._elements)} elements)"

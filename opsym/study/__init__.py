@@ -18,6 +18,7 @@ Examples
 
 from .budget import RSS_RULE, WORST_CASE_RULE, Budget, BudgetRow, error_budget
 from .design import Study, run_design
+from .noise import NoiseBudget, NoiseRow, noise_budget
 from .temperature import TemperatureSweep, budget_over_temperature
 from .tolerance import (
     MonteCarlo,
@@ -34,6 +35,8 @@ __all__ = [
     "Budget",
     "BudgetRow",
     "MonteCarlo",
+    "NoiseBudget",
+    "NoiseRow",
     "Study",
     "TemperatureSweep",
     "ToleranceStudy",
@@ -42,6 +45,7 @@ __all__ = [
     "error_budget",
     "first_order_bound",
     "monte_carlo",
+    "noise_budget",
     "run_design",
     "tolerance_analysis",
 ]

@@ -30,6 +30,7 @@ from ..numeric._numbers import LARGE_GAIN, Exact, exact_number, free_symbols_of,
 from ..numeric.adc import ADC
 from ..numeric.params import OpAmpParams, ResistorParams
 from ..numeric.units import format_si, parse_quantity
+from ..output.tables import SHORT_CAUTION
 
 #: Words and units of each error source in the tables.
 WORDS = {
@@ -47,10 +48,6 @@ WORST_CASE_RULE = "worst case = Σ|e| (every term at its limit, signs adding)"
 RSS_RULE = (
     "RSS = √Σe², uncorrelated terms as in JCGM 100:2008 (GUM) §5.1.2 eq. (10); "
     "RSS of datasheet limits is common practice, not a GUM result"
-)
-SHORT_CAUTION = (
-    "A design aid: verify by measurement; for medical or safety instrumentation follow "
-    "local codes and have the design reviewed by a licensed engineer."
 )
 
 
