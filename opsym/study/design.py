@@ -49,6 +49,7 @@ import sympy as sp
 from ..analyses.operating import OperatingPoint, Rails, operating_point
 from ..errors import BudgetError, OpsymError
 from ..io.design import Design
+from ..model.symbols import SYMBOLS
 from ..numeric.adc import ADC
 from ..numeric.eseries import NullChoice, choose_for_null
 from .budget import Budget, error_budget
@@ -235,8 +236,10 @@ def _magnitude(design: Design, term: str) -> float | None:
     if params is None:
         return None
     grade = design.budget.grade if design.budget is not None else "max"
-    getter = {"Vos": params.vos, "Ib": params.ib, "Ios": params.ios}.get(what)
-    return getter(grade) if getter is not None else None
+    spec = SYMBOLS.get(what)
+    if spec is None or spec.role != "source" or spec.datasheet is None:
+        return None
+    return params.value(spec.datasheet, grade)
 
 
 def _term_numbers(result: Any, values: dict[str, float]) -> dict[sp.Symbol, float]:
