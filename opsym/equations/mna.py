@@ -48,7 +48,7 @@ import sympy as sp
 from ..errors import InvalidValueError
 from ..model.circuit import GROUND, Circuit
 from ..model.elements import Capacitor, CurrentSource, Inductor, OpAmp, Resistor, VoltageSource
-from ..model.nonideal import PinCurrent, SeriesVoltage
+from ..model.nonideal import PinAdmittance, PinCurrent, SeriesVoltage
 from ..model.symbols import LAPLACE, source_symbol, thermal_symbol
 
 __all__ = ["DOMAINS", "INJECTIONS", "STAMPS", "NodalEquations", "build_equations"]
@@ -261,6 +261,11 @@ def _pin_current(b: _Builder, amp: OpAmp, row: int, inj: PinCurrent) -> None:
     b.source(b.row_of(pin), inj.source, sp.S.NegativeOne, amp.name)
 
 
+def _pin_admittance(b: _Builder, amp: OpAmp, row: int, inj: PinAdmittance) -> None:
+    pins = {"plus": amp.plus, "minus": amp.minus, "out": amp.out, "ground": GROUND}
+    b.admittance(pins[inj.a], pins[inj.b], b.value(inj.admittance), amp.name)
+
+
 #: The stamp of each element class: a new element adds its class and one function here.
 STAMPS: dict[type, Callable[[_Builder, Any], None]] = {
     Resistor: _resistor,
@@ -274,4 +279,5 @@ STAMPS: dict[type, Callable[[_Builder, Any], None]] = {
 INJECTIONS: dict[type, Callable[[_Builder, OpAmp, int, Any], None]] = {
     SeriesVoltage: _series_voltage,
     PinCurrent: _pin_current,
+    PinAdmittance: _pin_admittance,
 }

@@ -48,6 +48,7 @@ __all__ = [
     "InputOffset",
     "NoiseSpectrum",
     "NonIdeal",
+    "PinAdmittance",
     "PinCurrent",
     "SeriesVoltage",
     "SinglePole",
@@ -71,6 +72,25 @@ class PinCurrent:
 
     source: sp.Symbol
     pin: str
+
+
+@dataclass(frozen=True)
+class PinAdmittance:
+    """An admittance ``admittance`` (siemens) between two terminals of the op-amp.
+
+    ``a`` and ``b`` are ``"plus"``, ``"minus"``, ``"out"`` or ``"ground"``: a
+    differential input resistance ``Rid`` is ``PinAdmittance("plus", "minus",
+    1/Rid)``. It adds no source: an impedance changes the terms, not their list.
+    """
+
+    a: str
+    b: str
+    admittance: sp.Expr
+
+    def __post_init__(self) -> None:
+        for pin in (self.a, self.b):
+            if pin not in ("plus", "minus", "out", "ground"):
+                raise ValueError(f"PinAdmittance: {pin!r} is not plus, minus, out or ground")
 
 
 @dataclass(frozen=True)
@@ -141,7 +161,7 @@ class NonIdeal(ABC):
         """Independent source symbols this non-ideality adds to op-amp ``opamp``."""
 
     @abstractmethod
-    def injections(self, opamp: str) -> tuple[SeriesVoltage | PinCurrent, ...]:
+    def injections(self, opamp: str) -> tuple[SeriesVoltage | PinCurrent | PinAdmittance, ...]:
         """Where each source acts on op-amp ``opamp``."""
 
     def parameters(self, opamp: str) -> tuple[sp.Symbol, ...]:
