@@ -176,3 +176,20 @@ def test_gain_error_of_an_ac_coupled_stage_is_quoted_in_the_passband():
     assert where == "passband" and f == pytest.approx(math.sqrt(f1 * f2), rel=1e-9)
     a = 1e6 / (1 + 1j * f * 1e6 / 1e6)
     assert abs(res.gain_error_response(f)[()]) == pytest.approx(abs(1 / (1 + a)), rel=1e-6)
+
+
+def test_note_section_quotes_the_gain_error_where_asked():
+    # A single-pole follower: gain error −1/(1 + A(jω)), |…| ≈ f/GBW = 1 % at 10 kHz for
+    # GBW = 1 MHz (Franco, ch. 6 [mem]); exactly |1/(1 + A)| with A = A0/(1 + j·f·A0/GBW).
+    from opsym.output.sections import FrequencySection
+
+    c = opsym.Circuit("follower")
+    c.voltage_source("Vin", "p", "0")
+    c.opamp("U1", plus="p", minus="out", out="out", gain="pole", bias=False)
+    res = c.analyze("out", domain="s", values={"U1.A0": "100k", "U1.GBW": "1M"})
+    a = 1e5 / (1 + 1j * 1e4 * 1e5 / 1e6)
+    want = f"{100 * abs(1 / (1 + a)):.4g} %"
+    md = FrequencySection(res, reference=1e4).markdown()
+    assert f"- Gain error at f = 10 kHz (given): {want} " in md
+    # By default at DC, where the ideal gain is defined: 1/(1 + A0) = 10 ppm.
+    assert "- Gain error at f = 0 Hz (DC): 10 ppm " in FrequencySection(res).markdown()
