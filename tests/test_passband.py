@@ -193,3 +193,28 @@ def test_note_section_quotes_the_gain_error_where_asked():
     assert f"- Gain error at f = 10 kHz (given): {want} " in md
     # By default at DC, where the ideal gain is defined: 1/(1 + A0) = 10 ppm.
     assert "- Gain error at f = 0 Hz (DC): 10 ppm " in FrequencySection(res).markdown()
+
+
+def test_eight_stage_cascade_edge_is_half_power():
+    # 8 identical inverting low-pass stages (10 k, 10 k ∥ 1 nF) on single-pole op-amps:
+    # |H|² is a ratio of degree-16 polynomials in ω² whose coefficients have hundreds of
+    # digits. The edge, evaluated independently in floating point, is at half power
+    # [definition].
+    c = opsym.Circuit("8-stage low-pass cascade")
+    c.voltage_source("Vin", "s0", "0")
+    values: dict = {}
+    for k in range(1, 9):
+        c.resistor(f"R1_{k}", f"s{k - 1}", f"n{k}", value="10k")
+        c.resistor(f"R2_{k}", f"n{k}", f"s{k}", value="10k")
+        c.capacitor(f"C2_{k}", f"n{k}", f"s{k}", value="1n")
+        c.opamp(f"U{k}", plus="0", minus=f"n{k}", out=f"s{k}", gain="pole", bias=False,
+                noise=False)  # fmt: skip
+        values.update({f"U{k}.A0": "100k", f"U{k}.GBW": "1M"})
+    res = c.analyze("s8", domain="s", values=values)
+    f3 = res.bandwidth()
+    h = evaluator(res.coefficient("Vin"), "H")
+    ratio = abs(h(np.array([f3]))[0]) / abs(h(np.array([0.0]))[0])
+    assert ratio == pytest.approx(2**-0.5, rel=1e-9)
+    # Eight coincident RC poles at 15.9 kHz alone would give 15.9 kHz·√(2^(1/8) − 1) =
+    # 4.77 kHz (a cascade of n equal poles [derived]); the op-amp poles lower it a little.
+    assert 4.6e3 < f3 < 1 / (2 * math.pi * 1e-5) * math.sqrt(2 ** (1 / 8) - 1)

@@ -43,6 +43,7 @@ Examples
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 from fractions import Fraction
@@ -60,6 +61,8 @@ __all__ = ["Passband", "passband"]
 _X = sp.Dummy("x", nonnegative=True)
 #: Digits kept of a coefficient that is not rational (π, a float).
 _DIGITS = 60
+#: Significant bits kept of a root polynomial's coefficients when they are longer.
+_BITS = 160
 #: Relative width to which each edge is refined.
 _REL = Fraction(1, 10**15)
 #: The half-power level, exactly: HALF_POWER_DB = 10·log10(2).
@@ -194,7 +197,12 @@ def passband(
     >>> band.kind, round(band.edges[0] * 1e4, 12)
     ('low-pass', 1.0)
     """
-    drop_db = float(drop_db)
+    return _passband(expr, float(drop_db), reference)
+
+
+@functools.lru_cache(maxsize=128)
+def _passband(expr: sp.Expr, drop_db: float, reference: str) -> Passband:
+    """:func:`passband`, remembered: a note asks for the same response several times."""
     if not (drop_db > 0 and math.isfinite(drop_db)):
         raise InvalidValueError(f"drop_db = {drop_db:g}: give a positive number of dB")
     num, den = _rational(expr)
@@ -306,22 +314,61 @@ def _frequency(x: sp.Rational) -> float:
 
 def _positive_roots(p: sp.Poly) -> list[tuple[sp.Rational, int]]:
     """Every root ``x > 0`` of ``p`` (refined to a relative 1e-15) with its multiplicity."""
+    p = _strip_zero_roots(p)
     if p.is_zero or p.degree() < 1:
         return []
+    scale, q = _scaled(p)
     out = []
-    square_free = p.sqf_part()
-    for (lo, hi), mult in p.intervals(inf=0):
+    square_free = q.sqf_part()
+    for (lo, hi), mult in q.intervals(inf=0, fast=True):
         if hi <= 0:  # the root at x = 0: not a frequency
             continue
         lo, hi = sp.Rational(lo), sp.Rational(hi)
         while lo <= 0 or hi - lo > _REL * lo:
-            lo, hi = square_free.refine_root(lo, hi, steps=8)
+            lo, hi = square_free.refine_root(lo, hi, steps=8, fast=True)
             lo, hi = sp.Rational(lo), sp.Rational(hi)
             if hi <= 0:
                 break
         if hi > 0:
-            out.append(((lo + hi) / 2, mult))
+            out.append(((lo + hi) / 2 * scale, mult))
     return sorted(out)
+
+
+def _strip_zero_roots(p: sp.Poly) -> sp.Poly:
+    """``p`` divided by the largest power of ``x`` that divides it."""
+    coeffs = p.all_coeffs()
+    while len(coeffs) > 1 and coeffs[-1] == 0:
+        coeffs.pop()
+    return sp.Poly(coeffs, _X, domain="QQ")
+
+
+def _scaled(p: sp.Poly) -> tuple[sp.Integer | sp.Rational, sp.Poly]:
+    """``(k, q)`` with ``q(X) = p(k·X)`` up to a constant, its roots near 1, and its
+    coefficients rounded to ``_BITS`` significant bits when they are longer.
+
+    A power of two ``k`` near the geometric mean of the roots' sizes keeps the
+    coefficients of one size; rounding each to 160 bits (48 digits) moves a
+    simple root by about 1e-48 of its size times its condition number, and keeps
+    the exact isolation fast when a cascade's coefficients have hundreds of digits.
+    """
+    n = p.degree()
+    c0, cn = abs(p.all_coeffs()[-1]), abs(p.LC())
+    log2 = (math.log2(c0.p) - math.log2(c0.q) - math.log2(cn.p) + math.log2(cn.q)) / n
+    k = sp.Integer(2) ** round(log2)
+    coeffs = [c * k**i for i, c in enumerate(reversed(p.all_coeffs()))]
+    top = max(abs(c) for c in coeffs)
+    coeffs = [c / top for c in coeffs]
+    if max(max(c.p.bit_length(), c.q.bit_length()) for c in coeffs) > 2 * _BITS:
+        coeffs = [_rounded(c) for c in coeffs]
+    return k, sp.Poly(list(reversed(coeffs)), _X, domain="QQ")
+
+
+def _rounded(c: sp.Rational) -> sp.Rational:
+    """``c`` (``|c| <= 1``) to ``_BITS`` significant bits."""
+    if c == 0:
+        return c
+    scale = sp.Integer(2) ** (_BITS - (c.p.bit_length() - c.q.bit_length()))
+    return sp.Rational(round(c * scale), scale)
 
 
 def _crossings(p: sp.Poly) -> list[sp.Rational]:
