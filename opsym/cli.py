@@ -31,7 +31,22 @@ from pathlib import Path
 from typing import Any, NamedTuple, TextIO
 
 from . import __version__
+from .demo import run  # imported here: the demo pulls in the whole library
 from .errors import OpsymError
+from .io import designfile  # called as designfile.load_design, so tests can stand in
+from .io.writer import dump_design
+from .output.circuit_text import element_lines
+from .output.figures import (
+    bode_chart,
+    contribution_chart,
+    gain_error_chart,
+    monte_carlo_histogram,
+    noise_density_chart,
+    temperature_chart,
+)
+from .output.notes import design_note
+from .output.sections import FrequencySection, NoiseSection
+from .study.design import run_design
 
 __all__ = ["main"]
 
@@ -40,6 +55,7 @@ _BUG = "this is a bug in opsym; please report it with the design file and this m
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit status (0, 1 or 2)."""
+    _utf8_streams()
     parser = _parser()
     args = parser.parse_args(argv)
     if not getattr(args, "run", None):
@@ -58,6 +74,17 @@ def main(argv: Sequence[str] | None = None) -> int:
     except Exception as err:  # the last line of defence: no traceback, but say it is a bug
         _fail(f"internal error ({type(err).__name__}: {err}); {_BUG}")
         return 1
+
+
+def _utf8_streams() -> None:
+    """Write UTF-8 on standard output and error when their locale cannot spell Ω, µ or ‖."""
+    for stream in (sys.stdout, sys.stderr):
+        try:
+            "Ωµ‖±°√—".encode(stream.encoding or "ascii")
+        except (UnicodeEncodeError, LookupError):
+            reconfigure = getattr(stream, "reconfigure", None)
+            if reconfigure is not None:  # a TextIOWrapper; test doubles may not be
+                reconfigure(encoding="utf-8")
 
 
 def _fail(message: str) -> None:
@@ -129,18 +156,16 @@ def _parser() -> argparse.ArgumentParser:
 
 
 def _demo(args: argparse.Namespace) -> int:
-    from .demo import run  # imported here: the demo pulls in the whole library
 
     return int(run(sys.stdout))
 
 
 def _check(args: argparse.Namespace) -> int:
-    from .io.designfile import load_design
 
     failed = 0
     for name in args.files:
         try:
-            d = load_design(name)
+            d = designfile.load_design(name)
         except OpsymError as err:
             _fail(str(err))
             failed += 1
@@ -151,18 +176,14 @@ def _check(args: argparse.Namespace) -> int:
 
 
 def _rewrite(args: argparse.Namespace) -> int:
-    from .io.designfile import load_design
-    from .io.writer import dump_design
 
-    sys.stdout.write(dump_design(load_design(args.file)))
+    sys.stdout.write(dump_design(designfile.load_design(args.file)))
     return 0
 
 
 def _report(args: argparse.Namespace) -> int:
-    from .io.designfile import load_design
-    from .io.study import run_design
 
-    design = load_design(args.file)
+    design = designfile.load_design(args.file)
     progress = None if args.quiet else _Progress(sys.stderr)
     study = run_design(design, progress=progress)
     if progress is not None:
@@ -174,6 +195,8 @@ def _report(args: argparse.Namespace) -> int:
     if args.markdown is not None:
         files[args.markdown] = _note(study, "markdown", plans, args.markdown, False)
     _write_all(plans, files)
+    for warning in study.operating.warnings if study.operating is not None else ():
+        print(f"opsym: warning: {_source(study)}: {warning}", file=sys.stderr)
     if not args.quiet:
         _summary(study, sys.stdout)
         for path in [*(p.path for p in plans), *files]:
@@ -204,14 +227,6 @@ def _figure_plans(study: Any, directory: Path) -> list[_Plan]:
     """The figures this study can draw."""
     from functools import partial
 
-    from .output.figures import (
-        bode_chart,
-        contribution_chart,
-        gain_error_chart,
-        monte_carlo_histogram,
-        noise_density_chart,
-        temperature_chart,
-    )
 
     plans: list[_Plan] = []
     r, n = study.response, study.noise
@@ -296,8 +311,6 @@ def _note(study: Any, fmt: str, plans: list[_Plan], path: Path, standalone: bool
     """A design note with its frequency-response and noise sections, figures in place."""
     import os
 
-    from .output.notes import design_note
-    from .output.sections import FrequencySection, NoiseSection
 
     here = path.parent.resolve()
 
@@ -314,12 +327,24 @@ def _note(study: Any, fmt: str, plans: list[_Plan], path: Path, standalone: bool
         noise = NoiseSection(
             n.result, n.f_start, n.f_stop, figures=figures(_NOISE), signal=n.signal
         )
+    d = study.design
     return design_note(
         study.result, study.budget, title=None, conditions=study.conditions,
         choices=study.choices, studies=study.studies, sweep=study.sweep,
         figures=figures(_BUDGET), frequency=frequency, noise=noise, fmt=fmt,
-        standalone=standalone,
+        standalone=standalone, values=d.values, notes=d.notes, parameters=d.opamps,
+        resistors=d.resistors, grade=_grade(study), operating=study.operating,
     )  # fmt: skip
+
+
+def _grade(study: Any) -> str:
+    """The grade the budget took from the parameter sets (its default: the limits)."""
+    return study.design.budget.grade if study.design.budget is not None else "max"
+
+
+def _source(study: Any) -> str:
+    """The design file, for warnings."""
+    return str(study.design.source)
 
 
 def _response_points(r: Any) -> list[float]:
@@ -332,7 +357,6 @@ def _response_points(r: Any) -> list[float]:
 
 
 def _summary(study: Any, out: TextIO) -> None:
-    from .numeric.units import format_si
 
     d, res = study.design, study.result
 
@@ -346,10 +370,15 @@ def _summary(study: Any, out: TextIO) -> None:
         say(d.notes)
         say()
     say("Elements:")
-    for e in d.circuit.elements:
-        value = d.values.get(e.name)
-        shown = f" = {format_si(float(value), _unit_of(e))}" if value is not None else ""
-        say(f"  {e.describe()}{shown}")
+    for line in element_lines(d.circuit, d.values, d.opamps, d.resistors, _grade(study)):
+        say(f"  {line}")
+    say()
+    say("Nominal operating point (signals at their values, error sources at zero, DC):")
+    if study.operating is not None:
+        for line in study.operating.lines():
+            say(f"  {line}")
+    else:
+        say(f"  not computed: {study.operating_problem}")
     say()
     say(f"Terms of V({target}), each source times its coefficient:")
     width = max((len(str(s)) for s in res.terms), default=4)
@@ -386,12 +415,6 @@ def _summary(study: Any, out: TextIO) -> None:
     if study.noise is not None:
         say()
         say(study.noise.to_text())
-
-
-def _unit_of(element: Any) -> str:
-    units = {"resistor": "Ω", "capacitor": "F", "inductor": "H", "voltage source": "V",
-             "current source": "A"}  # fmt: skip
-    return units.get(element.kind, "")
 
 
 class _Progress:

@@ -198,3 +198,37 @@ def test_evaluator_never_runs_text():
     with pytest.raises(opsym.ValueSyntaxError):
         evaluator('__import__("os").getcwd()', "H")
     assert evaluator("2k", "H")(1.0) == pytest.approx(2000.0)
+
+
+def _two_pole_follower() -> tuple[opsym.Circuit, sp.Symbol, sp.Symbol, sp.Symbol]:
+    """A non-inverting stage whose op-amp gain has two poles, with user symbols."""
+    a0, w1, w2 = sp.symbols("A0 w1 w2", positive=True)
+    c = opsym.Circuit("two-pole non-inverting stage")
+    c.voltage_source("Vin", "p", "0")
+    c.resistor("R1", "n", "0", value="1k")
+    c.resistor("R2", "n", "out", value="9k")
+    c.opamp("U1", plus="p", minus="n", out="out", gain=a0 / ((1 + s / w1) * (1 + s / w2)),
+            offset=False, bias=False)  # fmt: skip
+    return c, a0, w1, w2
+
+
+@pytest.mark.parametrize("how", ["values-name", "values-symbol", "subs-name"])
+def test_a_symbol_only_in_gain_can_be_given_a_value(how):
+    # Any symbol but s can be set (docs/conventions.md). Hand formula, the closed-loop
+    # gain of a non-inverting stage [derived, KCL at n]: H = A/(1 + A·β), β = R1/(R1 + R2)
+    # = 1/10, with A(s) = A0/((1 + s/w1)(1 + s/w2)).
+    c, a0, w1, w2 = _two_pole_follower()
+    numbers = {"A0": 10**5, "w1": 10, "w2": 10**6}
+    if how == "values-name":
+        res = c.analyze("out", values=numbers, domain="s")
+    elif how == "values-symbol":
+        res = c.analyze("out", values={a0: 10**5, w1: 10, w2: 10**6}, domain="s")
+    else:
+        res = c.analyze("out", domain="s").subs(numbers)
+    f = 1e3
+    jw = 2j * math.pi * f
+    a = 1e5 / ((1 + jw / 10) * (1 + jw / 1e6))
+    expected = a / (1 + a / 10)
+    got = complex(res.coefficient("Vin").subs(s, sp.I * 2 * sp.pi * f).evalf(30))
+    assert got == pytest.approx(expected, rel=1e-12)
+    assert res.coefficient("Vin").free_symbols == {s}

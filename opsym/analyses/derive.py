@@ -20,13 +20,15 @@ from typing import Any
 
 import sympy as sp
 
+from .._services import provides
 from ..equations.adjoint import Progress, product, solve_adjoint
 from ..equations.mna import DOMAINS, build_equations
 from ..errors import InvalidValueError, UnknownNameError
-from ..model.circuit import GROUND, Circuit, to_exact
+from ..model.circuit import GROUND, Circuit
 from ..model.elements import CurrentSource, OpAmp, VoltageSource
 from ..model.symbols import LAPLACE, OPAMP_PARAMETERS, source_symbol
 from ..model.topology import check_topology
+from ..values import to_exact
 from .result import Result, SourceInfo
 
 __all__ = ["coefficients_of", "derive", "output_weights", "resolve_values", "sources_of"]
@@ -70,8 +72,8 @@ def _known_symbols(circuit: Circuit) -> dict[str, sp.Symbol]:
         else:
             sym = circuit.symbol(e.name)
             known[sym.name] = sym
-        for free in getattr(e, "value", sp.S.Zero).free_symbols:
-            known.setdefault(free.name, free)
+    for name, free in circuit.free_symbols_by_name().items():
+        known.setdefault(name, free)  # user symbols in values, gain= and parameters
     return known
 
 
@@ -113,6 +115,7 @@ def sources_of(circuit: Circuit, noise: bool = False) -> list[SourceInfo]:
     return infos
 
 
+@provides("derive")
 def derive(
     circuit: Circuit,
     output,

@@ -10,16 +10,14 @@ is their ``s = 0`` limit.
 from __future__ import annotations
 
 import math
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 import numpy as np
 import sympy as sp
 
 from ..errors import InvalidValueError, NoSolutionError
-from ..numeric.frequency import HALF_POWER_DB
-
-if TYPE_CHECKING:
-    from ..numeric.passband import Passband
+from ..numeric.frequency import HALF_POWER_DB, bandwidth, evaluation_form, evaluator
+from ..numeric.passband import Passband, passband
 
 __all__ = ["FrequencyResponse"]
 
@@ -75,7 +73,6 @@ class FrequencyResponse:
         self._need_s("response")
         sym = self._signal(source) if source is None else self._source_symbol(source)
         result = self.ideal() if ideal else self
-        from ..numeric.frequency import evaluator
 
         return evaluator(result._numeric_form(sym), f"the coefficient of {sym}")(f)
 
@@ -101,7 +98,6 @@ class FrequencyResponse:
         100.0
         """
         self._need_s("bandwidth")
-        from ..numeric.frequency import bandwidth
 
         return bandwidth(self._exact_form(self._pick(source)), drop_db)
 
@@ -125,8 +121,6 @@ class FrequencyResponse:
         ('high-pass', 1.5915)
         """
         self._need_s("passband")
-        from ..numeric.passband import passband
-
         return passband(self._exact_form(self._pick(source)), drop_db)
 
     def gain_error_frequency(self, signal: str | sp.Symbol | None = None) -> tuple[float, str]:
@@ -212,6 +206,5 @@ class FrequencyResponse:
         return compact if not compact.is_Add else self.coefficient(sym)
 
     def _numeric_form(self, sym: sp.Symbol) -> sp.Expr:
-        from ..numeric.frequency import evaluation_form
 
         return evaluation_form(self.compact_coefficient(sym), lambda: self.coefficient(sym))

@@ -3,7 +3,7 @@
 The format is described in ``docs/design-files.md``. :func:`load_design` reads
 a file into a :class:`Design` (an :class:`opsym.Circuit` plus its settings);
 :func:`parse_design` does the same for text. Every value goes through the
-whitelist parser :func:`~opsym.io.values.parse_value`; nothing in a file is
+whitelist parser :func:`~opsym.values.parse_value`; nothing in a file is
 ever evaluated. Unknown keys are errors, and every error names the file, the
 table, the key and (when it can be found) the line.
 
@@ -45,22 +45,33 @@ import sympy as sp
 
 from ..errors import DesignFileError, InvalidValueError, OpsymError
 from ..model.circuit import Circuit
-from ..model.elements import CurrentSource, VoltageSource
+from ..model.elements import TWO_TERMINALS, CurrentSource, VoltageSource
 from ..model.nonideal import KINDS, SinglePole
-from ..model.symbols import OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
+from ..model.symbols import (
+    OPAMP_PARAMETERS,
+    SYMBOLS,
+    component_symbol,
+    opamp_symbol,
+    source_symbol,
+)
 from ..model.topology import check_topology
 from ..numeric.eseries import SERIES
-from ..numeric.params import OpAmpParams, ResistorParams, opamp_parameters, resistor_parameters
+from ..numeric.params import (
+    OpAmpParams,
+    ResistorParams,
+    field_units,
+    opamp_parameters,
+    resistor_parameters,
+)
 from ._settings import SettingsReader
 from ._tables import Locator, Table
 from .design import (
     DEFAULT_INCLUDE,
     ELEMENT_TABLES,
     FORMAT,
-    OPAMP_VALUES,
-    PARAMETER_UNITS,
     Design,
     NullRequest,
+    opamp_values,
 )
 
 if sys.version_info >= (3, 11):
@@ -71,7 +82,7 @@ else:  # pragma: no cover - Python 3.10 reads TOML with the tomli backport
 __all__ = ["load_design", "parse_design"]  # the Design record lives in .design
 
 _MAX_BYTES = 1_000_000
-_TOP_KEYS = ("format", "title", "notes", "output", "input", *ELEMENT_TABLES)
+_TOP_KEYS = ("format", "title", "notes", "output", "input", "rails", *ELEMENT_TABLES)
 _SETTING_TABLES = ("analysis", "budget", "tolerance", "response", "noise")
 
 
@@ -123,6 +134,7 @@ class _Reader(SettingsReader):
         self.resistors: dict[str, ResistorParams] = {}
         self.circuit = Circuit()
         self.kinds: dict[str, tuple[str, ...]] = {}
+        self.rails: dict[str, tuple[sp.Expr, sp.Expr]] = {}
 
     def read(self) -> Design:
         top = self.top
@@ -131,6 +143,7 @@ class _Reader(SettingsReader):
             raise top.error("format", f"format {fmt} is not known; this opsym reads format 1")
         title = top.take_str("title", default=None)
         notes = top.take_str("notes", default="") or ""
+        supply = self.take_rails(top)
         if title is None:
             stem = os.path.splitext(os.path.basename(self.file))[0]
             title = stem if self.file != "<text>" else "design"
@@ -186,7 +199,7 @@ class _Reader(SettingsReader):
         return Design(
             circuit, output, self.values, signal, self.opamps, self.resistors, nulls,
             sensitivity, budget, tolerance, average, notes, self.file, default, series,
-            response=response, noise=noise,
+            response=response, noise=noise, rails=self.rails, supply=supply,
         )  # fmt: skip
 
     # -- elements ----------------------------------------------------------------------
@@ -223,8 +236,7 @@ class _Reader(SettingsReader):
         self, circuit: Circuit, kind: str, name: str, t: Table,
         equations: dict[str, tuple[Table, str]],
     ) -> None:  # fmt: skip
-        unit = {"resistors": "Ω", "capacitors": "F", "inductors": "H",
-                "voltage-sources": "V"}.get(kind, "A")  # fmt: skip
+        unit = next(cls.unit for cls in TWO_TERMINALS if cls.table == kind)
         if kind == "voltage-sources":
             a, b = t.take_node("plus"), t.take_node("minus")
         elif kind == "current-sources":
@@ -292,6 +304,9 @@ class _Reader(SettingsReader):
         if len(set(include)) != len(include):
             raise t.error("include", "a non-ideality is listed twice")
         self.opamp_values(name, t, gain, include)
+        own = self.take_rails(t)
+        if own is not None:
+            self.rails[name] = own
         if t.has("parameters"):
             self.opamps[name] = self.parameter_set(name, t)
         flagged = ("offset", "bias", "cmrr", "psrr")  # Circuit.opamp's own switches
@@ -302,10 +317,10 @@ class _Reader(SettingsReader):
         )  # fmt: skip
 
     def opamp_values(self, name: str, t: Table, gain: Any, include: list[str]) -> None:
-        """``Vcm``, ``dVs``, ``A0``, ``GBW``, ``en``, ``fce``, ``in``, ``fci``: numbers only."""
+        """The op-amp's own numbers (``Vcm``, ``A0``, ``en``, ...: see ``opamp_values``)."""
         own = set(SinglePole().parameters(name))
         pole = gain == "pole" or (isinstance(gain, sp.Expr) and bool(gain.free_symbols & own))
-        for what, (unit, needs) in OPAMP_VALUES.items():
+        for what, (unit, needs) in opamp_values().items():
             value = t.take_value(what, unit=unit)
             if value is None:
                 continue
@@ -327,12 +342,26 @@ class _Reader(SettingsReader):
                 if value.is_negative:
                     raise t.error(what, f"{what} = {value} is negative; give a value >= 0")
                 if needs not in include:
-                    kind = "voltage" if needs == "vnoise" else "current"
+                    words = SYMBOLS[what].words
                     raise t.error(
-                        what, f"the op-amp does not carry {kind} noise; add \"{needs}\" to "
-                        f"include or remove {what}"
+                        what, f"{what} ({words}) belongs to the kind {needs!r}, which the "
+                        f"op-amp does not carry; add \"{needs}\" to include or remove {what}"
                     )  # fmt: skip
             self.values[f"{name}.{what}"] = value
+
+    @staticmethod
+    def take_rails(t: Table) -> tuple[sp.Expr, sp.Expr] | None:
+        """``rails = ["-15 V", "15 V"]``: the negative and the positive supply rail."""
+        if not t.has("rails"):
+            return None
+        raw = t.raw("rails")
+        hint = 'give the negative and the positive rail, e.g. rails = ["-15 V", "15 V"]'
+        if not isinstance(raw, list) or len(raw) != 2:
+            raise t.error("rails", hint)
+        neg, pos = (t.value_of(v, "rails", unit="V") for v in raw)
+        if not (neg.is_number and pos.is_number) or not neg < pos:
+            raise t.error("rails", f"{neg} V and {pos} V: {hint} (negative first)")
+        return neg, pos
 
     def parameter_set(self, name: str, t: Table) -> OpAmpParams:
         raw = t.raw("parameters")
@@ -352,7 +381,7 @@ class _Reader(SettingsReader):
         description = p.take_str("description", default=None)
         if description is not None:
             fields["description"] = description
-        for key, unit in PARAMETER_UNITS.items():
+        for key, unit in field_units().items():
             if not p.has(key):
                 continue
             value = p.raw(key)

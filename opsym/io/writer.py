@@ -51,29 +51,29 @@ import sympy as sp
 from ..errors import DesignFileError, OpsymError
 from ..model.circuit import Circuit
 from ..model.elements import (
-    Capacitor,
+    TWO_TERMINALS,
     CurrentSource,
-    Inductor,
     OpAmp,
     Resistor,
     VoltageSource,
 )
 from ..model.nonideal import KINDS, SinglePole
 from ..model.symbols import component_symbol, opamp_symbol, source_symbol
-from ..numeric.params import OPAMP_SETS, RESISTOR_SETS, BiasLaw, OpAmpParams, ResistorParams
-from .design import DEFAULT_INCLUDE, FORMAT, OPAMP_VALUES, PARAMETER_UNITS, Design
+from ..numeric.params import (
+    OPAMP_SETS,
+    RESISTOR_SETS,
+    BiasLaw,
+    OpAmpParams,
+    ResistorParams,
+    field_units,
+)
+from ..values import to_exact
+from .design import DEFAULT_INCLUDE, FORMAT, Design, opamp_values
 from .formatting import format_value, plain_decimal
 
 __all__ = ["dump_design"]
 
 _BARE = re.compile(r"^[A-Za-z0-9_-]+$")
-_TABLE_OF = {
-    Resistor: "resistors",
-    Capacitor: "capacitors",
-    Inductor: "inductors",
-    VoltageSource: "voltage-sources",
-    CurrentSource: "current-sources",
-}
 #: A number as format_number writes it, split into mantissa and SI prefix.
 _PREFIXED = re.compile(r"^(-?[0-9.]+(?:e-?[0-9]+)?)([yzafpnumkMGT]?)$")
 
@@ -115,7 +115,6 @@ def dump_design(
     if out is None:
         raise DesignFileError("dump_design: give the output node, e.g. output='out'")
     nominal: dict[str, sp.Expr] = dict(base.values) if base else {}
-    from ..model.circuit import to_exact
 
     for key, v in (values or {}).items():
         name = key.name if isinstance(key, sp.Symbol) else str(key)
@@ -149,10 +148,12 @@ class _Writer:
         self.key("output", out)
         if b and b.signal is not None and self._signals() != [b.signal]:
             self.key("input", b.signal)
-        for cls, table in _TABLE_OF.items():
+        if b and b.supply is not None:
+            self.key("rails", _rails(b.supply))
+        for cls in TWO_TERMINALS:
             rows = [e for e in self.circuit.elements if type(e) is cls]
             if rows:
-                self.lines += ["", f"[{table}]"]
+                self.lines += ["", f"[{cls.table}]"]
                 for e in rows:
                     self.lines.append(f"{_key(e.name)} = {_inline(self.two_terminal(e))}")
         for amp in self.circuit.opamps:
@@ -161,7 +162,7 @@ class _Writer:
         if unplaced:
             raise DesignFileError(
                 f"dump_design: no place for the values of {', '.join(unplaced)}; design files "
-                f"hold numbers of elements and each op-amp's {', '.join(OPAMP_VALUES)}"
+                f"hold numbers of elements and each op-amp's {', '.join(opamp_values())}"
             )
         if b:
             self.settings(b)
@@ -224,12 +225,14 @@ class _Writer:
             kinds.append(n.kind)
         if kinds != list(DEFAULT_INCLUDE):
             self.key("include", kinds)
-        for what, (unit, _needs) in OPAMP_VALUES.items():
+        for what, (unit, _needs) in opamp_values().items():
             name = f"{amp.name}.{what}"
             if name in self.nominal:
                 text = _text(self.nominal[name], name)
                 self.key(what, text if what in ("Vcm", "dVs") else _with_unit(text, unit))
                 self.written.add(name)
+        if self.base and amp.name in self.base.rails:
+            self.key("rails", _rails(self.base.rails[amp.name]))
         params = self.base.opamps.get(amp.name) if self.base else None
         if params is not None:
             shipped = [k for k, v in OPAMP_SETS.items() if v == params]
@@ -331,9 +334,9 @@ def _parameter_fields(p: OpAmpParams) -> dict[str, Any]:
     out: dict[str, Any] = {"name": p.name}
     if p.description:
         out["description"] = p.description
-    for key in PARAMETER_UNITS:
-        v = getattr(p, key)
-        if v is not None and v != getattr(default, key):
+    for key in field_units():
+        v = p.extra.get(key) if key in p.extra else getattr(p, key, None)
+        if v is not None and v != getattr(default, key, None):
             if not math.isfinite(v):
                 raise DesignFileError(f"dump_design: {p.name} {key} = {v} cannot be written")
             out[key] = float(v)
@@ -343,6 +346,10 @@ def _parameter_fields(p: OpAmpParams) -> dict[str, Any]:
         if law.kind == "doubling" and float(f"{law.doubling_c:g}") != law.doubling_c:
             out["bias_law"] = f"doubling {law.doubling_c!r}"
     return out
+
+
+def _rails(pair: tuple[sp.Expr, sp.Expr]) -> list[str]:
+    return [_with_unit(_text(v, "rails"), "V") for v in pair]
 
 
 def _with_unit(text: str, unit: str) -> str:

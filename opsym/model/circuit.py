@@ -20,16 +20,15 @@ Eq(R3, R1*R2/(R1 + R2))
 
 from __future__ import annotations
 
-import math
 import re
 from collections.abc import Iterable, Mapping
-from fractions import Fraction
-from numbers import Real
 from typing import TYPE_CHECKING, Any
 
 import sympy as sp
 
+from .._services import call
 from ..errors import DuplicateNameError, InvalidValueError, UnknownNameError, ValueSyntaxError
+from ..values import to_exact
 from .elements import (
     Capacitor,
     CurrentSource,
@@ -46,7 +45,7 @@ if TYPE_CHECKING:
     from ..analyses.noise import NoiseResult
     from ..analyses.result import Result
 
-__all__ = ["GROUND", "Circuit", "to_exact"]
+__all__ = ["GROUND", "Circuit"]
 
 #: The ground node's name; "gnd" (any case) is accepted as an alias.
 GROUND = "0"
@@ -54,53 +53,10 @@ _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
 _NODE = re.compile(r"^[A-Za-z0-9_][A-Za-z0-9_+\-]*$")
 
 
-def to_exact(value: Any, where: str) -> sp.Expr:
-    """Turn a user number or expression into an exact SymPy value.
-
-    Floats become the exact rational of their shortest decimal form
-    (``0.1`` → ``1/10``), so the algebra stays exact; text goes through the
-    whitelist value parser (``"10k"``). ``where`` names the field for messages.
-
-    Examples
-    --------
-    >>> to_exact(4.7e-9, "C1")
-    47/10000000000
-    >>> to_exact("10k", "R1")
-    10000
-    """
-    if isinstance(value, bool) or value is None:
-        raise InvalidValueError(f"{where}: {value!r} is not a value; give a number or expression")
-    if isinstance(value, str):
-        from ..io.values import parse_value  # the whitelist parser, never sympify
-
-        return parse_value(value, where=where)
-    if isinstance(value, sp.Basic):
-        if not isinstance(value, sp.Expr):
-            raise InvalidValueError(f"{where}: {value!r} is not an expression")
-        if value.has(sp.nan, sp.zoo, sp.oo, -sp.oo):
-            raise InvalidValueError(f"{where}: value {value} is not finite; give a finite value")
-        if isinstance(value, sp.Float):
-            return sp.Rational(repr(float(value)))
-        return value
-    if isinstance(value, int):
-        return sp.Integer(value)
-    if isinstance(value, Fraction):
-        return sp.Rational(value.numerator, value.denominator)
-    if isinstance(value, Real):  # float, numpy scalars
-        x = float(value)
-        if not math.isfinite(x):
-            raise InvalidValueError(f"{where}: value {x} is not finite; give a finite number")
-        return sp.Rational(repr(x))
-    raise InvalidValueError(
-        f"{where}: cannot use a {type(value).__name__} as a value; "
-        "give a number, a SymPy expression or text such as '10k'"
-    )
-
-
-def _positive_value(value: Any, name: str, kind: str) -> sp.Expr:
+def _positive_value(value: Any, name: str, kind: str, unit: str) -> sp.Expr:
     if value is None:
         return component_symbol(name)
-    v = to_exact(value, f"{kind} {name}")
+    v = to_exact(value, f"{kind} {name}", unit=unit)
     if v.is_number:
         if v.is_zero:
             hint = " (for a wire, give both ends the same node name)" if kind == "resistor" else ""
@@ -139,19 +95,20 @@ class Circuit:
         """Add a resistor between nodes ``a`` and ``b``; ``None`` keeps it symbolic."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(Resistor(name, na, nb, _positive_value(value, name, "resistor")))
+        self._add(Resistor(name, na, nb, _positive_value(value, name, "resistor", Resistor.unit)))
 
     def capacitor(self, name: str, a: str, b: str, value: Any = None) -> None:
         """Add a capacitor: open at DC, admittance ``s·C`` in the s domain."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(Capacitor(name, na, nb, _positive_value(value, name, "capacitor")))
+        value = _positive_value(value, name, "capacitor", Capacitor.unit)
+        self._add(Capacitor(name, na, nb, value))
 
     def inductor(self, name: str, a: str, b: str, value: Any = None) -> None:
         """Add an inductor: a wire at DC, impedance ``s·L`` in the s domain."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(Inductor(name, na, nb, _positive_value(value, name, "inductor")))
+        self._add(Inductor(name, na, nb, _positive_value(value, name, "inductor", Inductor.unit)))
 
     def voltage_source(self, name: str, plus: str, minus: str, value: Any = None) -> None:
         """Add a signal voltage source, ``V(plus) - V(minus) = value``."""
@@ -221,7 +178,7 @@ class Circuit:
             )
         else:  # a number, an expression or text such as "100k"
             try:
-                a = _positive_value(gain, name + ".A", "op-amp gain")
+                a = _positive_value(gain, name + ".A", "op-amp gain", "ratio")
             except ValueSyntaxError as err:
                 raise InvalidValueError(
                     f"op-amp {name}: gain {gain!r} is not 'ideal', 'finite', 'pole' or a number "
@@ -287,7 +244,8 @@ class Circuit:
         ``"U1.Vos"``, ``"U1.Ib+"``, ``"U1.Ib-"``, ``"U1.Ib"``, ``"U1.Ios"``,
         ``"U1.A"``, ``"U1.CMRR"``, ``"U1.Vcm"``, ``"U1.PSRR"``, ``"U1.dVs"``,
         ``"U1.A0"``, ``"U1.GBW"``, ``"U1.en"``, ``"U1.in"``… the op-amp's own;
-        ``"s"`` the Laplace variable.
+        ``"s"`` the Laplace variable; any other name a symbol the elements use
+        (in a value or a ``gain=`` expression, see :meth:`free_symbols_by_name`).
 
         Examples
         --------
@@ -301,6 +259,8 @@ class Circuit:
         if name == "s" and "s" not in self._elements:
             return LAPLACE
         owner, dot, what = name.partition(".")
+        if owner not in self._elements and name in self.free_symbols_by_name():
+            return self.free_symbols_by_name()[name]  # a user symbol in a value or gain=
         element = self.element(owner)
         if not dot:
             if isinstance(element, (VoltageSource, CurrentSource)):
@@ -320,6 +280,35 @@ class Circuit:
             )
             raise UnknownNameError(f"no symbol named {name!r}: {hint}")
         return opamp_symbol(owner, what)
+
+    def free_symbols_by_name(self) -> dict[str, sp.Symbol]:
+        """Every symbol the elements use that is not a source, by name.
+
+        Element values, op-amp gain expressions (``gain=A0/(1 + s/w1)``) and
+        the non-ideality parameters; ``s`` is left out.
+
+        Examples
+        --------
+        >>> import sympy as sp
+        >>> c = Circuit()
+        >>> w1 = sp.Symbol("w1", positive=True)
+        >>> c.opamp("U1", "p", "n", "out", gain=10**5 / (1 + LAPLACE / w1))
+        >>> c.free_symbols_by_name()["w1"] == w1
+        True
+        """
+        found: dict[str, sp.Symbol] = {}
+        for e in self._elements.values():
+            exprs = [getattr(e, "value", None)]
+            if isinstance(e, OpAmp):
+                exprs.append(e.gain)
+                for kind in e.nonideals:
+                    exprs.extend(kind.parameters(e.name))
+            for expr in exprs:
+                if isinstance(expr, sp.Basic):
+                    for sym in expr.free_symbols:
+                        if isinstance(sym, sp.Symbol) and sym != LAPLACE:
+                            found.setdefault(sym.name, sym)
+        return found
 
     def analyze(
         self,
@@ -356,9 +345,7 @@ class Circuit:
         >>> c.analyze("out", domain="s").coefficient("Vin")
         1/(C1*R1*s + 1)
         """
-        from ..analyses.derive import derive
-
-        return derive(self, output, values=values, progress=progress, domain=domain)
+        return call("derive", self, output, values=values, progress=progress, domain=domain)
 
     def noise(
         self,
@@ -398,8 +385,6 @@ class Circuit:
         >>> round(float(n.density(1000.0)) * 1e9, 3)  # nV/√Hz: 4kTR at 298.15 K
         12.832
         """
-        from ..analyses.noise import noise
-
         merged: dict[Any, Any] = {}
         for name, params in (opamps or {}).items():
             if not hasattr(params, "values_for"):
@@ -412,7 +397,8 @@ class Circuit:
             merged.update(params.values_for(name, "typical"))
         for key, value in (values or {}).items():
             merged[key.name if isinstance(key, sp.Symbol) else key] = value
-        return noise(self, output, values=merged, temperature=temperature, progress=progress)
+        return call("noise", self, output, values=merged, temperature=temperature,
+                    progress=progress)  # fmt: skip
 
     def __repr__(self) -> str:
         return f"Circuit({self.title!r}, {len(self._elements)} elements)"

@@ -5,7 +5,9 @@ terms: offset voltage, its drift, bias and offset currents, open-loop gain,
 CMRR and PSRR, each as a typical value and a limit (maximum, or minimum for
 gain and rejection ratios). Optional typical values describe the dynamics and
 noise: gain-bandwidth product, voltage and current noise densities and their
-1/f corners. A :class:`BiasLaw` says how the bias current moves with
+1/f corners. Optional supply rails, with the output swing and input
+common-mode range as headroom to each rail, let a report check that the
+nominal operating point fits. A :class:`BiasLaw` says how the bias current moves with
 temperature. A :class:`ResistorParams` holds a tolerance and a TCR.
 
 The shipped sets are **invented and generic**, of the orders of magnitude the
@@ -14,7 +16,7 @@ them to explore, then put your part's datasheet values in a set of your own.
 
 Units: volts, amperes, V/V, dB for CMRR/PSRR (as datasheets give them), V/°C
 for drift, hertz for GBW and corners, V/√Hz and A/√Hz for noise densities,
-fractions for tolerance and 1/°C for TCR.
+fractions for tolerance and 1/°C for TCR, volts for rails and headroom.
 
 Examples
 --------
@@ -34,10 +36,13 @@ import math
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from types import MappingProxyType
 from typing import Any
 
 from ..errors import BudgetError, UnknownNameError
-from .units import db_to_ratio, parse_fraction, parse_quantity
+from ..model.nonideal import KINDS
+from ..model.symbols import SYMBOLS
+from .units import db_to_ratio, parse_db, parse_fraction, parse_quantity
 
 __all__ = [
     "OPAMP_SETS",
@@ -46,6 +51,7 @@ __all__ = [
     "BiasLaw",
     "OpAmpParams",
     "ResistorParams",
+    "field_units",
     "opamp_parameters",
     "resistor_parameters",
 ]
@@ -142,6 +148,13 @@ class OpAmpParams:
         (white part). ``None``: not given.
     fce, fci : float or None
         1/f corner frequencies of the voltage and current noise, Hz (0: white).
+    rail_neg, rail_pos : float or None
+        Supply rails, V (negative and positive; ``0`` for a single supply).
+        Give both or neither.
+    swing_headroom : float or None
+        How close the output swings to each rail, V (``0``: rail to rail).
+    cm_headroom : float or None
+        How close the input common-mode voltage may come to each rail, V.
     """
 
     name: str
@@ -166,10 +179,24 @@ class OpAmpParams:
     in_typ: float | None = None
     fce: float | None = None
     fci: float | None = None
+    rail_neg: float | None = None
+    rail_pos: float | None = None
+    swing_headroom: float | None = None
+    cm_headroom: float | None = None
+    extra: Mapping[str, float] = field(default_factory=dict)
 
     def __post_init__(self) -> None:
+        object.__setattr__(self, "extra", MappingProxyType(dict(self.extra)))
+        for key, v in self.extra.items():
+            if key not in registered_fields():
+                raise BudgetError(
+                    f"op-amp set {self.name!r}: extra field {key!r} belongs to no registered "
+                    f"non-ideality; the registered ones are {', '.join(registered_fields())}"
+                )
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+                raise BudgetError(f"op-amp set {self.name!r}: {key}={v!r} is not a number")
         for f in dataclasses.fields(self):
-            if f.name in ("name", "description", "bias_law"):
+            if f.name in ("name", "description", "bias_law", "extra"):
                 continue
             v = getattr(self, f.name)
             if v is None and f.name in _OPTIONAL:
@@ -182,12 +209,33 @@ class OpAmpParams:
             if f.name.startswith(("a_", "cmrr", "psrr", "gbw")):
                 if not v > 0:
                     raise BudgetError(f"op-amp set {self.name!r}: {f.name}={v} must be > 0")
-            elif f.name != "ib_typ" and f.name != "ib_max" and v < 0:
+            elif f.name not in ("ib_typ", "ib_max", "rail_neg", "rail_pos") and v < 0:
                 raise BudgetError(
                     f"op-amp set {self.name!r}: {f.name}={v} is a magnitude; give it >= 0"
                 )
         if not isinstance(self.bias_law, BiasLaw):
             raise BudgetError(f"op-amp set {self.name!r}: bias_law must be a BiasLaw")
+        self._check_rails()
+
+    def _check_rails(self) -> None:
+        neg, pos = self.rail_neg, self.rail_pos
+        if (neg is None) != (pos is None):
+            raise BudgetError(
+                f"op-amp set {self.name!r}: give both rail_neg and rail_pos (V), or neither"
+            )
+        if neg is None or pos is None:
+            return
+        if not (math.isfinite(neg) and math.isfinite(pos) and neg < pos):
+            raise BudgetError(
+                f"op-amp set {self.name!r}: rails {neg} V and {pos} V must be finite with "
+                "rail_neg < rail_pos"
+            )
+        room = (self.swing_headroom or 0.0, self.cm_headroom or 0.0)
+        if any(2 * h >= pos - neg for h in room):
+            raise BudgetError(
+                f"op-amp set {self.name!r}: headroom {max(room)} V from each rail leaves no "
+                f"range between {neg} V and {pos} V"
+            )
 
     # -- values at a grade and temperature ------------------------------------------
 
@@ -222,6 +270,35 @@ class OpAmpParams:
         db = self.psrr_min_db if _check_grade(grade) == "max" else self.psrr_typ_db
         return db_to_ratio(db)
 
+    def value(
+        self, stem: str, grade: str = "max", temperature: float = REFERENCE_TEMPERATURE
+    ) -> float | None:
+        """The number this set gives for a datasheet stem (a ``SymbolSpec.datasheet``).
+
+        ``"vos"``, ``"ib"``, ``"ios"`` (at ``temperature``), ``"a"``, ``"cmrr"``,
+        ``"psrr"`` (at ``grade``), ``"gbw"``, ``"en"``, ``"in"``, ``"fce"``, ``"fci"``
+        (typical), or the stem of a registered kind, read from ``extra`` as
+        ``<stem>_max`` or ``<stem>_typ``. ``None``: the set does not give it.
+
+        Examples
+        --------
+        >>> p = opamp_parameters("generic CMOS")
+        >>> p.value("vos") == p.vos_max, p.value("gbw") == p.gbw_typ
+        (True, True)
+        """
+        g = _check_grade(grade)
+        graded = {"vos": self.vos, "ib": self.ib, "ios": self.ios}
+        if stem in graded:
+            return graded[stem](g, temperature)
+        ratios = {"a": self.gain, "cmrr": self.cmrr, "psrr": self.psrr}
+        if stem in ratios:
+            return ratios[stem](g)
+        typical = {"gbw": self.gbw_typ, "en": self.en_typ, "in": self.in_typ,
+                   "fce": self.fce, "fci": self.fci}  # fmt: skip
+        if stem in typical:
+            return typical[stem]
+        return self.extra.get(f"{stem}_{'max' if g == 'max' else 'typ'}")
+
     def values_for(self, opamp: str, grade: str = "max") -> dict[str, float]:
         """The set's numbers under op-amp ``opamp``'s symbol names, for ``values=``.
 
@@ -237,10 +314,10 @@ class OpAmpParams:
         ['U1.GBW', 'U1.en']
         """
         pairs = (
-            ("A", self.gain(grade)), ("A0", self.gain(grade)), ("CMRR", self.cmrr(grade)),
-            ("PSRR", self.psrr(grade)), ("GBW", self.gbw_typ), ("en", self.en_typ),
-            ("in", self.in_typ), ("fce", self.fce), ("fci", self.fci),
-        )  # fmt: skip
+            (spec.suffix, self.value(spec.datasheet, grade))
+            for spec in SYMBOLS.values()
+            if spec.datasheet is not None and spec.suffix not in budget_sources()
+        )
         return {
             f"{opamp}.{what}": float(v)
             for what, v in pairs
@@ -255,7 +332,8 @@ class OpAmpParams:
         >>> opamp_parameters("generic CMOS").replace(vos_max="2m").vos_max
         0.002
         """
-        return OpAmpParams.from_mapping({**dataclasses.asdict(self), **changes})
+        fields = {f.name: getattr(self, f.name) for f in dataclasses.fields(self)}
+        return OpAmpParams.from_mapping({**fields.pop("extra"), **fields, **changes})
 
     @classmethod
     def from_mapping(cls, data: Mapping[str, Any]) -> OpAmpParams:
@@ -271,46 +349,99 @@ class OpAmpParams:
         >>> p.vos_max, p.bias_law.kind
         (2.5e-05, 'doubling')
         """
-        names = {f.name for f in dataclasses.fields(cls)}
-        unknown = sorted(set(data) - names)
+        units = field_units()
+        unknown = sorted(set(data) - set(units) - {"name", "description", "bias_law", "extra"})
         if unknown:
             raise BudgetError(
                 f"op-amp set: unknown field(s) {', '.join(unknown)}; "
-                f"the fields are {', '.join(sorted(names))}"
+                f"the fields are {', '.join(sorted(units))}, name, description, bias_law"
             )
         if "name" not in data:
             raise BudgetError("op-amp set: give it a 'name'")
-        units = {"vos": "V", "dri": "V/°C", "ib_": "A", "ios": "A", "a_t": "V/V", "a_m": "V/V",
-                 "gbw": "Hz", "en_": "V/√Hz", "in_": "A/√Hz", "fce": "Hz", "fci": "Hz"}
-        kw: dict[str, Any] = {}
+        kw: dict[str, Any] = {"extra": {}}
         for key, raw in data.items():
             where = f"op-amp set {data['name']!r} field {key}"
             if key in ("name", "description"):
                 kw[key] = str(raw)
+            elif key == "extra":
+                kw["extra"].update(raw)
             elif raw is None and key in _OPTIONAL:
                 kw[key] = None
             elif isinstance(raw, (int, float)) and not isinstance(raw, bool):
                 kw[key] = float(raw)  # numbers as they are (inf: "no limit"); checked below
             elif key == "bias_law":
                 kw[key] = _bias_law(raw, where)
-            elif key.endswith("_db"):
+            elif units[key] == "dB":
                 kw[key] = _db(raw, where)
             else:
-                kw[key] = parse_quantity(raw, units.get(key[:3]), where=where)
+                kw[key] = parse_quantity(raw, units[key], where=where)
+        for key in registered_fields():
+            if key in kw:
+                kw["extra"][key] = kw.pop(key)
         return cls(**kw)
 
 
+#: The unit of each built-in field (``None``: a plain ratio; ``"dB"``: a number of dB).
+_FIELD_UNITS: dict[str, str | None] = {
+    "vos_typ": "V", "vos_max": "V", "drift_typ": "V/°C", "drift_max": "V/°C",
+    "ib_typ": "A", "ib_max": "A", "ios_typ": "A", "ios_max": "A",
+    "a_typ": None, "a_min": None,
+    "cmrr_typ_db": "dB", "cmrr_min_db": "dB", "psrr_typ_db": "dB", "psrr_min_db": "dB",
+    "gbw_typ": "Hz", "en_typ": "V/√Hz", "in_typ": "A/√Hz", "fce": "Hz", "fci": "Hz",
+    "rail_neg": "V", "rail_pos": "V", "swing_headroom": "V", "cm_headroom": "V",
+}  # fmt: skip
+#: Datasheet stems the built-in fields already hold.
+_BUILT_IN_STEMS = frozenset({"vos", "ib", "ios", "a", "cmrr", "psrr", "gbw", "en", "in",
+                             "fce", "fci"})  # fmt: skip
+
+
+def registered_fields() -> dict[str, str | None]:
+    """``<stem>_typ`` and ``<stem>_max`` for every registered kind's own datasheet stem.
+
+    Examples
+    --------
+    >>> "vos_max" in registered_fields()  # built in, not an extra field
+    False
+    """
+    found: dict[str, str | None] = {}
+    for spec in SYMBOLS.values():
+        if spec.datasheet is not None and spec.datasheet not in _BUILT_IN_STEMS:
+            for grade in ("typ", "max"):
+                found[f"{spec.datasheet}_{grade}"] = spec.unit or None
+    return found
+
+
+def field_units() -> dict[str, str | None]:
+    """Every parameter-set field a file or mapping may give, with its unit.
+
+    Examples
+    --------
+    >>> field_units()["vos_max"], field_units()["cmrr_min_db"]
+    ('V', 'dB')
+    """
+    return {**_FIELD_UNITS, **registered_fields()}
+
+
+def budget_sources() -> frozenset[str]:
+    """Suffixes of the DC error sources a budget takes as rows (``Vos``, ``Ib``, …)."""
+    return frozenset(
+        spec.suffix
+        for kind in KINDS.values()
+        if not kind.noise
+        for spec in kind.symbols
+        if spec.role == "source"
+    )
+
+
 #: Fields that may be ``None`` (not given).
-_OPTIONAL = frozenset({"gbw_typ", "en_typ", "in_typ", "fce", "fci"})
+_OPTIONAL = frozenset({
+    "gbw_typ", "en_typ", "in_typ", "fce", "fci", "rail_neg", "rail_pos", "swing_headroom",
+    "cm_headroom",
+})  # fmt: skip
 
 
 def _db(raw: Any, where: str) -> float:
-    if isinstance(raw, str):
-        s = raw.strip()
-        if s.lower().endswith("db"):
-            s = s[:-2]
-        return parse_quantity(s, where=where)
-    return parse_quantity(raw, where=where)
+    return parse_db(raw, where=where)
 
 
 def _bias_law(raw: Any, where: str) -> BiasLaw:
@@ -324,7 +455,8 @@ def _bias_law(raw: Any, where: str) -> BiasLaw:
             r"\s*(constant|doubling)(?:\s+(?:every\s+)?([0-9.]+)\s*(?:°?C)?)?\s*", raw
         )
         if m:
-            return BiasLaw(m.group(1), float(m.group(2)) if m.group(2) else 10.0)
+            step = parse_quantity(m.group(2), where=where) if m.group(2) else 10.0
+            return BiasLaw(m.group(1), step)
     raise BudgetError(
         f"{where}: {raw!r} is not a bias law; write 'constant' or 'doubling 10' "
         "(doubles every 10 °C)"
@@ -386,7 +518,9 @@ class ResistorParams:
 
 
 #: Invented generic op-amp sets (no real part): typical / limit values of the usual order.
-#: Noise is typical only, as datasheets give it: FET and CMOS inputs have the shot noise
+#: Supplies: ±15 V for the bipolar and JFET sets, a single 5 V for the CMOS ones (rail-to-rail
+#: output, inputs to the rails). Noise is typical only, as datasheets
+#: give it: FET and CMOS inputs have the shot noise
 #: of their leakage, white (fci = 0); a zero-drift part chops away its 1/f noise (fce = 0)
 #: but its switching adds current noise.
 OPAMP_SETS: dict[str, OpAmpParams] = {
@@ -400,6 +534,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             a_typ=5e6, a_min=1e6, cmrr_typ_db=130, cmrr_min_db=120,
             psrr_typ_db=120, psrr_min_db=110,
             gbw_typ=1e6, en_typ=10e-9, in_typ=0.1e-12, fce=5.0, fci=100.0,
+            rail_neg=-15.0, rail_pos=15.0, swing_headroom=1.2, cm_headroom=1.5,
         ),
         OpAmpParams(
             "generic general-purpose bipolar",
@@ -409,6 +544,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             a_typ=2e5, a_min=2e4, cmrr_typ_db=90, cmrr_min_db=70,
             psrr_typ_db=90, psrr_min_db=76,
             gbw_typ=1e6, en_typ=20e-9, in_typ=0.5e-12, fce=100.0, fci=300.0,
+            rail_neg=-15.0, rail_pos=15.0, swing_headroom=1.5, cm_headroom=2.0,
         ),
         OpAmpParams(
             "generic JFET",
@@ -418,6 +554,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             a_typ=2e5, a_min=5e4, cmrr_typ_db=100, cmrr_min_db=80,
             psrr_typ_db=100, psrr_min_db=80, bias_law=BiasLaw("doubling", 10.0),
             gbw_typ=4e6, en_typ=12e-9, in_typ=10e-15, fce=200.0, fci=0.0,
+            rail_neg=-15.0, rail_pos=15.0, swing_headroom=1.5, cm_headroom=3.0,
         ),
         OpAmpParams(
             "generic CMOS",
@@ -427,6 +564,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             a_typ=1e6, a_min=1e5, cmrr_typ_db=95, cmrr_min_db=80,
             psrr_typ_db=95, psrr_min_db=80, bias_law=BiasLaw("doubling", 10.0),
             gbw_typ=2e6, en_typ=20e-9, in_typ=2e-15, fce=1000.0, fci=0.0,
+            rail_neg=0.0, rail_pos=5.0, swing_headroom=0.05, cm_headroom=0.0,
         ),
         OpAmpParams(
             "generic zero-drift CMOS",
@@ -436,6 +574,7 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             a_typ=1e7, a_min=1e6, cmrr_typ_db=130, cmrr_min_db=115,
             psrr_typ_db=130, psrr_min_db=115, bias_law=BiasLaw("doubling", 10.0),
             gbw_typ=1.5e6, en_typ=30e-9, in_typ=100e-15, fce=0.0, fci=0.0,
+            rail_neg=0.0, rail_pos=5.0, swing_headroom=0.05, cm_headroom=0.0,
         ),
     )
 }  # fmt: skip

@@ -55,8 +55,8 @@ import mpmath
 import sympy as sp
 
 from ..errors import BudgetError, InvalidValueError
-from ..model.circuit import to_exact
 from ..model.symbols import LAPLACE
+from ..values import to_exact
 
 __all__ = ["Passband", "passband"]
 

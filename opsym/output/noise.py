@@ -6,7 +6,7 @@ r"""Noise as tables and formulas: each source's RMS and share, its transfer and 
 
 Examples
 --------
->>> from opsym.analyses.noise import NoiseBudget, NoiseRow
+>>> from opsym.study.noise import NoiseBudget, NoiseRow
 >>> b = NoiseBudget("out", 10.0, 1e4, 298.15,
 ...                 (NoiseRow("U1.en", "voltage noise en of U1", 3e-6, 0.9),
 ...                  NoiseRow("R2", "thermal noise √(4kTR) of R2", 1e-6, 0.1)), 3.16e-6, None)
@@ -21,22 +21,21 @@ from typing import TYPE_CHECKING
 
 import sympy as sp
 
+from ..analyses.noise import PEAK_TO_PEAK_RULE
 from ..model.symbols import component_symbol, latex_name
 from ..numeric.units import format_si
 from .laplace import number_latex, transfer_terms
-from .tables import Table
+from .tables import SHORT_CAUTION, Table
 
 if TYPE_CHECKING:
-    from ..analyses.noise import NoiseBudget, NoiseResult
+    from ..analyses.noise import NoiseResult
+    from ..study.noise import NoiseBudget
 
 __all__ = ["noise_latex", "noise_markdown", "noise_table"]
 
 
 def noise_table(budget: NoiseBudget) -> Table:
     """The rows of ``budget`` largest first, totals in the footer, rules as notes."""
-    from ..analyses.noise import PEAK_TO_PEAK_RULE
-    from ..numeric._plan import SHORT_CAUTION
-
     band = f"{format_si(budget.f_low, 'Hz')} to {format_si(budget.f_high, 'Hz')}"
     if budget.f_high == float("inf"):
         band = f"{format_si(budget.f_low, 'Hz')} to ∞"
@@ -61,6 +60,7 @@ def noise_table(budget: NoiseBudget) -> Table:
         f"Resistors at {budget.temperature - 273.15:g} °C ({budget.temperature:g} K), "
         "4kTR with k = 1.380649e-23 J/K (SI, exact).",
         PEAK_TO_PEAK_RULE + ".",
+        *_accuracy_note(budget),
         SHORT_CAUTION,
     )
     return Table(
@@ -70,6 +70,18 @@ def noise_table(budget: NoiseBudget) -> Table:
         f"Noise budget at {budget.output}, {band}",
         tuple(footer),
         notes,
+    )
+
+
+def _accuracy_note(budget: NoiseBudget) -> tuple[str, ...]:
+    """How well the band integrals are known, when the budget says."""
+    if budget.total_error is None:
+        return ()
+    relative = budget.total_error / budget.total if budget.total > 0 else 0.0
+    return (
+        "Band integrals: adaptive Gauss–Kronrod in ln f, break points at every pole and "
+        f"zero; estimated error of the total ±{budget.total_error:.1e} V rms "
+        f"({relative:.1e} relative).",
     )
 
 

@@ -1,12 +1,17 @@
 r"""A complete design-note section, in LaTeX or Markdown.
 
-The note has: the circuit (element list), the conventions, the symbolic terms
+The note has: the design's notes, the circuit (element list: every value the
+note was computed with, each op-amp's parameter set and the values taken from
+it), the nominal operating point (node voltages, each op-amp against its
+rails, with a warning for any voltage outside them), the conventions, the symbolic terms
 (every source's coefficient), the conditions (nulls and the standard values
 chosen for them), the numeric budget and any tolerance or temperature studies,
 optionally a frequency-response and a noise section
 (:mod:`opsym.output.sections`), figures, and the usual caution, always last.
 ``standalone=True`` wraps the LaTeX in a document that pdflatex compiles with
-``amsmath``, ``booktabs`` and ``graphicx``.
+``inputenc`` (UTF-8), ``fontenc`` (T1), ``lmodern``, ``textcomp``, ``amsmath``,
+``booktabs`` and ``graphicx``; the trade's symbols (Ω µ ‖ ± °) are written as
+LaTeX commands and other text passes through as UTF-8.
 
 Examples
 --------
@@ -31,12 +36,13 @@ import sympy as sp
 
 from ..analyses.present import trade_form
 from ..errors import BudgetError
+from ..model.nonideal import KINDS
 from ..model.symbols import latex_name
-from ..numeric.units import format_si, parse_quantity
+from .circuit_text import element_lines
 from .sections import FrequencySection, NoiseSection
 from .tables import latex_text
 
-__all__ = ["CAUTION", "CONVENTIONS", "design_note"]
+__all__ = ["CAUTION", "conventions", "design_note"]
 
 #: The caution every note carries.
 CAUTION = (
@@ -46,66 +52,44 @@ CAUTION = (
     "licensed engineer."
 )
 
-#: The sign conventions the terms follow.
-CONVENTIONS = (
-    "Vos is a source in series with the + pin.",
-    "Ib+ and Ib- flow into the pins; Ib = (Ib+ + Ib-)/2 and Ios = Ib+ - Ib-.",
-    "The CMRR error is Vcm/CMRR in series with the + pin (Vcm at the pins, CMRR as V/V).",
-    "The PSRR error is dVs/PSRR, dVs the change of the total supply span.",
+def conventions(circuit: Any = None) -> tuple[str, ...]:
+    """The sign conventions of the error sources a circuit's op-amps carry.
+
+    Each kind states its own (``NonIdeal.convention``); without a circuit,
+    those of every registered kind that enters the DC terms.
+
+    Examples
+    --------
+    >>> conventions()[0]
+    'Vos is a source in series with the + pin.'
+    """
+    if circuit is None:
+        kinds = [k for k in KINDS.values() if not k.noise]
+    else:
+        carried = {type(n) for amp in circuit.opamps for n in amp.nonideals}
+        kinds = [k for k in KINDS.values() if k in carried]
+    return tuple(k.convention for k in kinds if k.convention)
+
+
+#: What the operating point section says it is.
+_OPERATING = (
+    "Signals at their given values, every op-amp error source at zero, components at "
+    "their nominal values; DC, solved exactly. Each op-amp's output and input common-mode "
+    "voltage is checked against its rails less the headroom of its parameter set."
 )
 
-_UNITS = {
-    "resistor": "Ω",
-    "capacitor": "F",
-    "inductor": "H",
-    "voltage source": "V",
-    "current source": "A",
-}
-#: Units of the op-amp parameters shown beside the op-amp in the element list.
-_OPAMP_UNITS = {
-    "A0": "", "GBW": "Hz", "A": "", "en": "V/√Hz", "in": "A/√Hz", "fce": "Hz", "fci": "Hz",
-    "Vos": "V", "Ib+": "A", "Ib-": "A", "Ib": "A", "Ios": "A",
-}  # fmt: skip
+#: Characters outside ASCII that pdflatex reads with inputenc (UTF-8) and T1 fonts.
+_LATIN = frozenset(chr(c) for c in range(0xA0, 0x180)) | frozenset("‘’‚“”„•€")
 
 
-def _opamp_text(amp: Any, given: Mapping[str, Any]) -> str:
-    """The gain model, the error-source kinds and the op-amp's given parameters."""
-    from ..model.nonideal import SinglePole
+def _unusual_characters(text: str) -> list[str]:
+    """Declarations that keep pdflatex going on characters it has no glyph for.
 
-    if amp.gain is None:
-        gain = "ideal (nullor)"
-    elif sp.simplify(amp.gain - SinglePole().gain(amp.name)) == 0:
-        gain = "single-pole open-loop gain A0/(1 + s·A0/(2π·GBW))"
-    else:
-        gain = f"open-loop gain {amp.gain}"
-    kinds = ", ".join(n.kind for n in amp.nonideals) or "none"
-    shown = []
-    for what, unit in _OPAMP_UNITS.items():
-        key = f"{amp.name}.{what}"
-        if key in given:
-            number = parse_quantity(given[key], where=key)
-            shown.append(f"{what} = " + (format_si(number, unit) if unit else f"{number:g}"))
-    return f"; {gain}; error sources: {kinds}" + ("; " + ", ".join(shown) if shown else "")
-
-
-def _element_lines(circuit: Any, values: Mapping[Any, Any]) -> list[str]:
-    given = {(k.name if isinstance(k, sp.Symbol) else str(k)): v for k, v in values.items()}
-    lines = []
-    for e in circuit.elements:
-        text = e.describe()
-        value = getattr(e, "value", None)
-        unit = _UNITS.get(e.kind, "")
-        if e.name in given:
-            text += " = " + format_si(parse_quantity(given[e.name], where=e.name), unit)
-        elif value is not None:
-            if isinstance(value, sp.Expr) and value.is_number:
-                text += " = " + format_si(float(value), unit)
-            elif not (isinstance(value, sp.Symbol) and value.name == e.name):
-                text += f" = {value}"
-        if e.kind == "op-amp":
-            text += _opamp_text(e, given)
-        lines.append(text)
-    return lines
+    Each such character is shown as its code point, ``[U+XXXX]``.
+    """
+    odd = sorted({ch for ch in text if ord(ch) > 127 and ch not in _LATIN})
+    return [rf"\DeclareUnicodeCharacter{{{ord(ch):04X}}}{{\texttt{{[U+{ord(ch):04X}]}}}}"
+            for ch in odd]  # fmt: skip
 
 
 def _names(result: Any, extra: Iterable[sp.Expr] = ()) -> dict[sp.Symbol, str]:
@@ -138,6 +122,11 @@ def design_note(
     noise: NoiseSection | None = None,
     fmt: str = "latex",
     standalone: bool = False,
+    notes: str = "",
+    parameters: Mapping[str, Any] | None = None,
+    resistors: Mapping[str, Any] | None = None,
+    grade: str = "max",
+    operating: Any = None,
 ) -> str:
     """Write a design-note section for one result.
 
@@ -169,6 +158,17 @@ def design_note(
     fmt : {"latex", "markdown"}
     standalone : bool
         LaTeX only: wrap in a complete document.
+    notes : str
+        Free text (a design file's ``notes``), printed under the title.
+    parameters : mapping of str to OpAmpParams, optional
+        Each op-amp's parameter set: its name and the values taken from it
+        (at ``grade``) join the element list.
+    resistors : mapping of str to ResistorParams, optional
+        Each resistor's tolerance and TCR, for the element list.
+    grade : {"max", "typical"}
+        The grade the budget took from the parameter sets.
+    operating : OperatingPoint, optional
+        The nominal operating point (:func:`opsym.analyses.operating.operating_point`).
 
     Returns
     -------
@@ -197,12 +197,21 @@ def design_note(
     terms_latex = shown.latex(names) if hasattr(shown, "latex") else sp.latex(shown.expression)
     figs = [(Path(f), "") if not isinstance(f, tuple) else (Path(f[0]), str(f[1]))
             for f in figures]  # fmt: skip
-    elements = _element_lines(circuit, values or {}) if circuit is not None else []
+    elements = (element_lines(circuit, values, parameters, resistors, grade)
+                if circuit is not None else [])  # fmt: skip
+    op_lines = operating.lines() if operating is not None else []
     tables_md = [t.to_markdown() for t in [*studies] if t is not None]
     if fmt == "markdown":
-        out = [f"## {title}", "", "### Circuit", ""]
+        out = [f"## {title}", ""]
+        if notes:
+            out += [notes, ""]
+        out += ["### Circuit", ""]
         out += [f"- {line}" for line in elements] or ["- (no circuit attached)"]
-        out += ["", "### Conventions", "", *[f"- {c}" for c in CONVENTIONS]]
+        if op_lines:
+            out += ["", "### Nominal operating point", "", _OPERATING, ""]
+            out += [f"- {'**' + line + '**' if line.startswith('WARNING') else line}"
+                    for line in op_lines]  # fmt: skip
+        out += ["", "### Conventions", "", *[f"- {c}" for c in conventions(circuit)]]
         out += ["", "### Symbolic terms", "", "$$", terms_latex, "$$"]
         if conditions or list(choices):
             out += ["", "### Conditions", ""]
@@ -223,13 +232,22 @@ def design_note(
         out += ["", "### Caution", "", CAUTION, ""]
         return "\n".join(out)
 
-    body = [r"\section*{" + latex_text(title) + "}", r"\subsection*{Circuit}"]
+    body = [r"\section*{" + latex_text(title) + "}"]
+    if notes:
+        body += [latex_text(notes), ""]
+    body += [r"\subsection*{Circuit}"]
     if elements:
         body += [r"\begin{itemize}"]
         body += [r"\item " + latex_text(line) for line in elements]
         body += [r"\end{itemize}"]
+    if op_lines:
+        body += [r"\subsection*{Nominal operating point}", latex_text(_OPERATING)]
+        body += [r"\begin{itemize}"]
+        body += [r"\item " + (r"\textbf{" + latex_text(line) + "}" if line.startswith("WARNING")
+                              else latex_text(line)) for line in op_lines]  # fmt: skip
+        body += [r"\end{itemize}"]
     body += [r"\subsection*{Conventions}", r"\begin{itemize}"]
-    body += [r"\item " + latex_text(c) for c in CONVENTIONS]
+    body += [r"\item " + latex_text(c) for c in conventions(circuit)]
     body += [r"\end{itemize}", r"\subsection*{Symbolic terms}", r"\["]
     body += [terms_latex, r"\]"]
     choices = list(choices)
@@ -266,11 +284,15 @@ def design_note(
     if standalone:
         preamble = "\n".join([
             r"\documentclass{article}",
+            r"\usepackage[utf8]{inputenc}",
+            r"\usepackage[T1]{fontenc}",
+            r"\usepackage{lmodern}",
             r"\usepackage{textcomp}",
             r"\usepackage{amsmath}",
             r"\usepackage{booktabs}",
             r"\usepackage{graphicx}",
             r"\usepackage[margin=2cm]{geometry}",
+            *_unusual_characters(text),
             r"\begin{document}",
         ])  # fmt: skip
         text = preamble + "\n" + text + r"\end{document}" + "\n"

@@ -2,7 +2,8 @@ r"""One small table type, written as Markdown, LaTeX (booktabs) or terminal text
 
 Cells are plain Unicode text (``152.6 µV``, ``±``); :func:`latex_text` turns
 them into LaTeX that pdflatex accepts with only the ``booktabs`` package
-(``\textmu`` and ``\textdegree`` are in the LaTeX kernel's text commands).
+(``\textmu`` and ``\textdegree`` are in the LaTeX kernel's text commands);
+other text (``é``) passes through as UTF-8, which LaTeX reads by default.
 
 Examples
 --------
@@ -25,7 +26,14 @@ from dataclasses import dataclass
 
 from ..errors import OpsymError
 
-__all__ = ["Table", "latex_text"]
+__all__ = [
+    "SHORT_CAUTION","Table", "latex_text"]
+
+#: The caution every budget and noise table ends with (design notes carry the long one).
+SHORT_CAUTION = (
+    "A design aid: verify by measurement; for medical or safety instrumentation follow "
+    "local codes and have the design reviewed by a licensed engineer."
+)
 
 _LATEX_SPECIAL = {
     "\\": r"\textbackslash{}",
@@ -66,29 +74,42 @@ _LATEX_SPECIAL = {
     "<": r"\textless{}",
     ">": r"\textgreater{}",
     "→": r"$\rightarrow$",
+    "∥": r"$\parallel$",
+    "≠": r"$\neq$",
+    "‰": r"\textperthousand{}",
+    "℃": r"\textdegree{}C",
+    "α": r"$\alpha$",
+    "β": r"$\beta$",
+    "γ": r"$\gamma$",
+    "δ": r"$\delta$",
+    "ε": r"$\varepsilon$",
+    "θ": r"$\theta$",
+    "λ": r"$\lambda$",
+    "ν": r"$\nu$",
+    "ρ": r"$\rho$",
+    "σ": r"$\sigma$",
+    "τ": r"$\tau$",
+    "φ": r"$\varphi$",
+    "ω": r"$\omega$",
+    **{ch: r"\textsuperscript{" + d + "}"
+       for ch, d in zip("⁰¹³⁴⁵⁶⁷⁸⁹⁺⁻", "013456789+-", strict=True)},
 }
 
 
 def latex_text(text: str) -> str:
     r"""Escape plain text for LaTeX text mode, mapping the trade's symbols.
 
-    Characters with no mapping outside ASCII are replaced by ``?`` so that the
-    document still compiles.
+    The trade's symbols (Ω µ ‖ ± ° √ …) become LaTeX commands; other text
+    outside ASCII (``é``, ``ü``) passes through as UTF-8 for ``inputenc``.
 
     Examples
     --------
     >>> latex_text("±25 µV (1 %)")
     '$\\pm$25 \\textmu{}V (1 \\%)'
+    >>> latex_text("Résumé — 10 kΩ ‖ 1 kΩ")
+    'Résumé --- 10 k$\\Omega$ $\\parallel$ 1 k$\\Omega$'
     """
-    out = []
-    for ch in str(text):
-        if ch in _LATEX_SPECIAL:
-            out.append(_LATEX_SPECIAL[ch])
-        elif ord(ch) < 128:
-            out.append(ch)
-        else:
-            out.append("?")
-    return "".join(out)
+    return "".join(_LATEX_SPECIAL.get(ch, ch) for ch in str(text))
 
 
 @dataclass(frozen=True)

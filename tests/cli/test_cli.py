@@ -57,6 +57,9 @@ def test_report_every_example(path):
     assert run.returncode == 0, run.stderr
     assert "Terms of V(" in run.stdout
     assert "Traceback" not in run.stderr
+    # Every shipped example states its nominal operating point and fits its rails.
+    assert "Nominal operating point" in run.stdout and "node voltages: V(" in run.stdout
+    assert "WARNING" not in run.stdout and "warning" not in run.stderr
 
 
 def test_report_writes_notes_and_figures(tmp_path):

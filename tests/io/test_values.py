@@ -12,7 +12,7 @@ from hypothesis import strategies as st
 
 from opsym.errors import OpsymError, ValueSyntaxError
 from opsym.io.formatting import format_number, format_value
-from opsym.io.values import MAX_LENGTH, parse_value
+from opsym.values import MAX_LENGTH, parse_value
 
 R1, R2, R3 = sp.symbols("R1 R2 R3", positive=True)
 VOS = sp.Symbol("U1.Vos", real=True)
@@ -94,7 +94,9 @@ def test_expressions_with_names():
     [
         ("", "empty"),
         ("10x", "unknown prefix or unit 'x' at column 3"),
-        ("1meg", "'meg' is not a prefix"),
+        ("1 mil", "'mil' is SPICE's thousandth of an inch"),
+        ("1 mega", "M or meg for mega"),
+        ("1 MEGOHM", "meg (or M) with a unit"),
         ("1.2.3", "second decimal point"),
         ("1e", "exponent needs digits"),
         ("1e999", "too large"),

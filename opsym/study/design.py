@@ -1,10 +1,11 @@
 """Run every analysis a design file asks for, and keep the results together.
 
 :func:`run_design` derives the output, then the null conditions (with a
-standard value for each), the sensitivities, the error budget (over the
+standard value for each), the nominal operating point (each op-amp checked
+against its rails), the sensitivities, the error budget (over the
 temperatures asked for), the tolerance studies, and the frequency response
 and noise budget when the file asks for them (see
-:mod:`opsym.io.frequency_study`). It computes; presenting is the command
+:mod:`opsym.study.frequency`). It computes; presenting is the command
 line's and the design notes' job.
 
 Examples
@@ -33,6 +34,8 @@ Eq(R3, R1*R2/(R1 + R2))
 9090.0
 >>> s.budget is not None
 True
+>>> s.operating.nodes["out"], s.operating.warnings
+(-1.0, ())
 """
 
 from __future__ import annotations
@@ -43,16 +46,18 @@ from typing import Any
 
 import sympy as sp
 
-from ..errors import BudgetError
+from ..analyses.operating import OperatingPoint, Rails, operating_point
+from ..errors import BudgetError, OpsymError
+from ..io.design import Design
+from ..model.symbols import SYMBOLS
 from ..numeric.adc import ADC
-from ..numeric.budget import Budget, error_budget
 from ..numeric.eseries import NullChoice, choose_for_null
-from ..numeric.temperature import TemperatureSweep, budget_over_temperature
-from ..numeric.tolerance import ToleranceStudy, tolerance_analysis
-from .design import Design
-from .frequency_study import NoiseReport, ResponseReport, run_noise, run_response
+from .budget import Budget, error_budget
+from .frequency import NoiseReport, ResponseReport, run_noise, run_response
+from .temperature import TemperatureSweep, budget_over_temperature
+from .tolerance import ToleranceStudy, tolerance_analysis
 
-__all__ = ["Study", "run_design"]
+__all__ = ["Study", "rails_of", "run_design"]
 
 Progress = Callable[[int, int, str], Any]
 
@@ -83,6 +88,10 @@ class Study:
         The ``[response]`` analysis (Laplace domain), if asked for.
     noise : NoiseReport or None
         The ``[noise]`` analysis, if asked for.
+    operating : OperatingPoint or None
+        The nominal DC operating point, each op-amp checked against its rails.
+    operating_problem : str
+        Why there is no operating point (a component without a number ...).
     """
 
     design: Design
@@ -96,6 +105,8 @@ class Study:
     studies: tuple[ToleranceStudy, ...] = ()
     response: ResponseReport | None = None
     noise: NoiseReport | None = None
+    operating: OperatingPoint | None = None
+    operating_problem: str = ""
 
 
 def run_design(design: Design, progress: Progress | None = None) -> Study:
@@ -110,6 +121,11 @@ def run_design(design: Design, progress: Progress | None = None) -> Study:
     result = design.analyze(progress=progress)
     values = numeric_values(design)
     numbers = _term_numbers(result, values)
+    operating, problem, rails = None, "", rails_of(design)
+    try:
+        operating = operating_point(design.circuit, values, rails)
+    except OpsymError as err:
+        problem = str(err)
     conditions = tuple(result.null(n.term, by=n.by) for n in design.nulls)
     choices = []
     for request, eq in zip(design.nulls, conditions, strict=True):
@@ -164,7 +180,7 @@ def run_design(design: Design, progress: Progress | None = None) -> Study:
     noise = run_noise(design, values, design.noise) if design.noise else None
     return Study(
         design, result, numbers, conditions, tuple(choices), tuple(sens), budget, sweep,
-        tuple(studies), response, noise,
+        tuple(studies), response, noise, operating, problem,
     )  # fmt: skip
 
 
@@ -186,6 +202,33 @@ def numeric_values(design: Design) -> dict[str, float]:
     return values
 
 
+def rails_of(design: Design) -> dict[str, Rails]:
+    """Each op-amp's rails: its own in the file, else the file's, else its parameter set's.
+
+    The headroom (output swing, input common-mode range) comes from the
+    parameter set; without one it is zero (the rails themselves are the limits).
+    """
+    out: dict[str, Rails] = {}
+    for amp in design.circuit.opamps:
+        params = design.opamps.get(amp.name)
+        swing = cm = 0.0
+        if params is not None:
+            swing, cm = params.swing_headroom or 0.0, params.cm_headroom or 0.0
+        pair: tuple[Any, Any] | None = None
+        if amp.name in design.rails:
+            pair, source = design.rails[amp.name], f"[opamps.{amp.name}] rails"
+        elif design.supply is not None:
+            pair, source = design.supply, "the design's rails"
+        elif params is not None and params.rail_neg is not None:
+            pair, source = (params.rail_neg, params.rail_pos), f"set {params.name!r}"
+        if pair is not None:
+            try:
+                out[amp.name] = Rails(float(pair[0]), float(pair[1]), swing, cm, source)
+            except OpsymError as err:  # headroom from the set wider than the file's rails
+                raise BudgetError(f"{design.source}: op-amp {amp.name}: {err}") from err
+    return out
+
+
 def _magnitude(design: Design, term: str) -> float | None:
     """The size of an op-amp error source from its parameter set, for null residuals."""
     owner, _, what = term.partition(".")
@@ -193,8 +236,10 @@ def _magnitude(design: Design, term: str) -> float | None:
     if params is None:
         return None
     grade = design.budget.grade if design.budget is not None else "max"
-    getter = {"Vos": params.vos, "Ib": params.ib, "Ios": params.ios}.get(what)
-    return getter(grade) if getter is not None else None
+    spec = SYMBOLS.get(what)
+    if spec is None or spec.role != "source" or spec.datasheet is None:
+        return None
+    return params.value(spec.datasheet, grade)
 
 
 def _term_numbers(result: Any, values: dict[str, float]) -> dict[sp.Symbol, float]:

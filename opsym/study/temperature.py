@@ -36,10 +36,11 @@ from typing import Any
 import numpy as np
 
 from ..errors import BudgetError
+from ..numeric.params import REFERENCE_TEMPERATURE, OpAmpParams
+from ..numeric.units import format_si
+from ..output.tables import Table
 from ._views import TableViews
 from .budget import Budget, _evaluate, _prepare
-from .params import REFERENCE_TEMPERATURE, OpAmpParams
-from .units import format_si
 
 __all__ = ["TemperatureSweep", "budget_over_temperature"]
 
@@ -94,7 +95,6 @@ class TemperatureSweep(TableViews):
 
     def table(self, top: int = 3):
         """Temperature, totals and the largest contributors, as a Table."""
-        from ..output.tables import Table
 
         names = self.sources()[:top]
         labels = {r.source: r.label for r in self.worst_budget.rows}
@@ -145,17 +145,17 @@ def budget_over_temperature(
     Parameters
     ----------
     result, values, opamps
-        As for :func:`~opsym.numeric.budget.error_budget`.
+        As for :func:`~opsym.study.budget.error_budget`.
     low, high, step : float
         The grid in °C (both ends and 25 °C always included).
     temperatures : sequence of float, optional
         An explicit grid instead.
     **options
-        Passed on to :func:`~opsym.numeric.budget.error_budget` (``resistors``,
-        ``grade``, ``signal``, ``adc``, ``full_scale``...).
+        Passed on to :func:`~opsym.study.budget.error_budget` (``resistors``,
+        ``grade``, ``signal``, ``adc``, ``full_scale``, ``progress``...).
     """
     unknown = set(options) - {
-        "resistors", "grade", "signal", "input_gain", "full_scale", "adc", "title"
+        "resistors", "grade", "signal", "input_gain", "full_scale", "adc", "title", "progress"
     }  # fmt: skip
     if unknown:
         raise BudgetError(
@@ -168,6 +168,12 @@ def budget_over_temperature(
     else:
         grid = _grid(float(low), float(high), float(step))
     kw = {"resistors": None, "grade": "max", "signal": None, "input_gain": None,
-          "full_scale": None, "adc": None, "title": None, **options}  # fmt: skip
-    plan = _prepare(result, values, opamps, **kw)
-    return TemperatureSweep(tuple(grid), tuple(_evaluate(plan, t) for t in grid))
+          "full_scale": None, "adc": None, "title": None, "progress": None,
+          **options}  # fmt: skip
+    plan = _prepare(result, values, opamps, **kw)  # numbers in once; each T is cheap
+    budgets = []
+    for i, t in enumerate(grid):
+        if kw["progress"] is not None:
+            kw["progress"](i, len(grid), f"budget at {t:g} °C")
+        budgets.append(_evaluate(plan, t))
+    return TemperatureSweep(tuple(grid), tuple(budgets))

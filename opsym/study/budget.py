@@ -22,6 +22,11 @@ Rules (stated again in every report's notes):
 * **Gain rows** need the signal's value (its full-scale input): finite
   open-loop gain gives (G(A) − G(∞))·Vsig; resistor tolerance gives the worst
   corner deviation of G times |Vsig| (first-order bound beyond 12 parts).
+* **Other sources' tolerance rows**: every other signal source with a non-zero
+  value (a common-mode input, a reference, a second input) gets the worst
+  change of its coefficient with resistor tolerance times |value|; one the
+  network nominally rejects is the "common-mode error from resistor mismatch",
+  and the budget states the network CMRR (:attr:`Budget.cmrr_db`).
 
 Examples
 --------
@@ -47,19 +52,19 @@ from dataclasses import dataclass
 from typing import Any
 
 from ..errors import BudgetError
+from ..model.symbols import SYMBOLS
+from ..numeric.adc import ADC
+from ..numeric.params import REFERENCE_TEMPERATURE, OpAmpParams, ResistorParams
+from ..numeric.units import format_si
+from ..output.tables import Table
 from ._plan import (
     RSS_RULE,
-    SIGNED,
-    WORDS,
     WORST_CASE_RULE,
+    Progress,
     _Plan,
     _prepare,
-    _tolerance_deviation,
 )
 from ._views import TableViews
-from .adc import ADC
-from .params import REFERENCE_TEMPERATURE, OpAmpParams, ResistorParams
-from .units import format_si
 
 __all__ = ["RSS_RULE", "WORST_CASE_RULE", "Budget", "BudgetRow", "error_budget"]
 
@@ -71,8 +76,9 @@ class BudgetRow:
     Attributes
     ----------
     source : str
-        The source's name (``"U1.Vos"``), or ``"gain: open-loop"`` /
-        ``"gain: tolerance"`` for the gain rows.
+        The source's name (``"U1.Vos"``), ``"gain: open-loop"`` /
+        ``"gain: tolerance"`` for the gain rows, or ``"tolerance: Vcm"`` for
+        another source's coefficient moving with resistor tolerance.
     label : str
         Words for reports.
     value : float
@@ -144,6 +150,9 @@ class Budget(TableViews):
     temperature: float
     notes: tuple[str, ...]
     input_unit: str = "V"  # of the input-referred column: "A" for a current input
+    #: min |Ad|/|Acm| of the resistor network over the tolerance corners, dB (None
+    #: without a differential signal and a common mode, or without ``resistors=``).
+    cmrr_db: float | None = None  # the network's CMRR from resistor mismatch, worst case
 
     @property
     def worst_case_input(self) -> float | None:
@@ -172,7 +181,6 @@ class Budget(TableViews):
 
     def table(self):
         """The budget as an :class:`opsym.output.tables.Table`."""
-        from ..output.tables import Table
 
         headers = ["source", "value", "coefficient", "at output", "at input"]
         fs = self.full_scale or (self.adc.fsr if self.adc else None)
@@ -185,6 +193,8 @@ class Budget(TableViews):
         for r in self.rows:
             if r.source.startswith("gain:"):
                 coef = f"ΔG = {r.coefficient:+.3g}"
+            elif r.source.startswith("tolerance:"):
+                coef = f"Δ = ±{abs(r.coefficient):.3g} V/" + r.unit
             elif r.unit == "A":
                 coef = format_si(r.coefficient, "Ω")  # V/A: the trade writes it in ohms
             else:
@@ -224,10 +234,23 @@ class Budget(TableViews):
 
 
 # ----------------------------------------------------------------------------------------
+def _from_set(p: OpAmpParams, stem: str, grade: str, temperature: float, name: str) -> float:
+    """The set's number for ``stem``; a set that lacks it is an error, never a zero."""
+    value = p.value(stem, grade, temperature)
+    if value is None:
+        field = f"{stem}_{'max' if grade == 'max' else 'typ'}"
+        raise BudgetError(
+            f"{name}: parameter set {p.name!r} gives no {field}; add it to the set "
+            f"(e.g. .replace({field}=...)) or give values[{name!r}]"
+        )
+    return value
+
+
 def _evaluate(plan: _Plan, temperature: float) -> Budget:
     raw = []  # (source, label, value, unit, coefficient, output, signed)
     for ln in plan.lines:
-        words, unit = WORDS.get(ln.what, (ln.what, "V"))
+        spec = SYMBOLS.get(ln.what)
+        words, unit = (spec.words, spec.unit) if spec is not None else (ln.what, "V")
         p = plan.opamps.get(ln.owner)
         if ln.fixed_value is not None:
             value = ln.fixed_value
@@ -235,15 +258,11 @@ def _evaluate(plan: _Plan, temperature: float) -> Budget:
             value = 0.0
         elif p is None:  # pragma: no cover - _prepare insists on a set or a value
             raise BudgetError(f"{ln.symbol} needs a value or a parameter set")
-        elif ln.what == "Vos":
-            value = p.vos(plan.grade, temperature)
-        elif ln.what in ("Ib", "Ib+", "Ib-"):
-            value = p.ib(plan.grade, temperature)
-        elif ln.what == "Ios":
-            value = p.ios(plan.grade, temperature)
+        elif spec is not None and spec.datasheet is not None:
+            value = _from_set(p, spec.datasheet, plan.grade, temperature, ln.symbol.name)
         else:  # Vcm, dVs without a value but with a zero coefficient
             value = 0.0
-        signed = ln.what in SIGNED
+        signed = spec is not None and spec.signed
         out = ln.coefficient * value
         raw.append((ln.symbol.name, f"{ln.owner} {words}", value, unit, ln.coefficient,
                     out if signed else abs(out), signed))  # fmt: skip
@@ -259,11 +278,10 @@ def _evaluate(plan: _Plan, temperature: float) -> Budget:
                 True,
             )
         )
-    if plan.tolerance is not None and plan.signal_value is not None:
-        dev = _tolerance_deviation(plan, temperature)
-        raw.append(("gain: tolerance", "resistor tolerance (gain)", plan.signal_value,
-                    plan.signal_unit,
-                    dev, abs(dev * plan.signal_value), False))  # fmt: skip
+    for row in plan.spreads:
+        dev = row.spread.deviation(temperature)
+        raw.append((row.source, row.label, row.value, row.unit, dev, abs(dev * row.value),
+                    False))  # fmt: skip
     raw.sort(key=lambda r: -abs(r[5]))
     worst = float(sum(abs(r[5]) for r in raw))
     rss = float(math.sqrt(sum(r[5] ** 2 for r in raw)))
@@ -280,13 +298,28 @@ def _evaluate(plan: _Plan, temperature: float) -> Budget:
             )
         )  # fmt: skip
     notes = plan.notes
+    cmrr = None
+    if plan.rejection is not None:
+        cmrr = plan.rejection.cmrr_db(temperature)
+        notes = (*notes[:-1], _cmrr_note(plan, temperature, cmrr), notes[-1])
     if temperature != REFERENCE_TEMPERATURE:
         notes = (f"at {temperature:g} °C: Vos + drift·|T − 25 °C|; Ib and Ios by each set's "
                  "bias law", *notes)  # fmt: skip
     return Budget(
         plan.title, tuple(rows), worst, rss, plan.input_gain, plan.signal, plan.full_scale,
-        plan.adc, plan.grade, float(temperature), notes, plan.signal_unit,
+        plan.adc, plan.grade, float(temperature), notes, plan.signal_unit, cmrr,
     )  # fmt: skip
+
+
+def _cmrr_note(plan: _Plan, temperature: float, cmrr: float) -> str:
+    rej = plan.rejection
+    assert rej is not None
+    return (
+        f"network CMRR from resistor mismatch: {cmrr:.1f} dB worst case (|Acm| ≤ "
+        f"{rej.worst_acm(temperature):.3g} V/V, Ad = {abs(rej.ad.nominal_value):.4g} V/V, "
+        f"{rej.acm.method}); a difference amplifier of gain K has ≈ (1 + K)/(4t) "
+        "(Sedra & Smith, Microelectronic Circuits, 6th ed., §2.4)"
+    )
 
 
 def error_budget(
@@ -302,6 +335,7 @@ def error_budget(
     adc: ADC | None = None,
     temperature: float = REFERENCE_TEMPERATURE,
     title: str | None = None,
+    progress: Progress | None = None,
 ) -> Budget:
     """The error budget of ``result`` with numbers put in.
 
@@ -336,6 +370,9 @@ def error_budget(
         resistors spread by ``TCR·|T − 25|``.
     title : str, optional
         Table caption.
+    progress : callable, optional
+        ``progress(done, total, what)`` while the coefficients are evaluated
+        (the convention of ``Circuit.analyze``).
 
     Returns
     -------
@@ -343,6 +380,6 @@ def error_budget(
     """
     plan = _prepare(
         result, values, opamps, resistors=resistors, grade=grade, signal=signal,
-        input_gain=input_gain, full_scale=full_scale, adc=adc, title=title,
+        input_gain=input_gain, full_scale=full_scale, adc=adc, title=title, progress=progress,
     )  # fmt: skip
     return _evaluate(plan, float(temperature))
