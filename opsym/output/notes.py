@@ -8,6 +8,8 @@ rails, with a warning for any voltage outside them), the conventions, the symbol
 chosen for them), the numeric budget and any tolerance or temperature studies,
 optionally a frequency-response and a noise section
 (:mod:`opsym.output.sections`), figures, and the usual caution, always last.
+The content is gathered once into a :class:`~opsym.output.document.Document`
+and written by its Markdown or LaTeX renderer, so both formats say the same.
 ``standalone=True`` wraps the LaTeX in a document that pdflatex compiles with
 ``inputenc`` (UTF-8), ``fontenc`` (T1), ``lmodern``, ``textcomp``, ``amsmath``,
 ``booktabs`` and ``graphicx``; the trade's symbols (Ω µ ‖ ± °) are written as
