@@ -26,26 +26,17 @@ from __future__ import annotations
 import argparse
 import sys
 import time
-from collections.abc import Callable, Sequence
+from collections.abc import Sequence
 from pathlib import Path
-from typing import Any, NamedTuple, TextIO
+from typing import Any, TextIO
 
 from . import __version__
 from .demo import run  # imported here: the demo pulls in the whole library
 from .errors import OpsymError
 from .io import designfile  # called as designfile.load_design, so tests can stand in
 from .io.writer import dump_design
-from .output.circuit_text import element_lines
-from .output.figures import (
-    bode_chart,
-    contribution_chart,
-    gain_error_chart,
-    monte_carlo_histogram,
-    noise_density_chart,
-    temperature_chart,
-)
-from .output.notes import design_note
-from .output.sections import FrequencySection, NoiseSection
+from .output.report import FigurePlan, figure_plans, study_note
+from .output.summary import summary_text
 from .study.design import run_design
 
 __all__ = ["main"]
@@ -191,14 +182,14 @@ def _report(args: argparse.Namespace) -> int:
     plans = _figure_plans(study, args.figures) if args.figures is not None else []
     files: dict[Path, str] = {}
     if args.latex is not None:
-        files[args.latex] = _note(study, "latex", plans, args.latex, args.standalone)
+        files[args.latex] = study_note(study, "latex", plans, args.latex, args.standalone)
     if args.markdown is not None:
-        files[args.markdown] = _note(study, "markdown", plans, args.markdown, False)
+        files[args.markdown] = study_note(study, "markdown", plans, args.markdown, False)
     _write_all(plans, files)
     for warning in study.operating.warnings if study.operating is not None else ():
         print(f"opsym: warning: {_source(study)}: {warning}", file=sys.stderr)
     if not args.quiet:
-        _summary(study, sys.stdout)
+        sys.stdout.write(summary_text(study))
         for path in [*(p.path for p in plans), *files]:
             print(f"wrote {path}", file=sys.stderr)
     return 0
@@ -210,58 +201,10 @@ class _OutputError(OpsymError, OSError):
 
 # -- report parts ------------------------------------------------------------------------
 
-#: Where a figure goes in the notes: the numeric budget's figures, or a section's.
-_BUDGET, _FREQUENCY, _NOISE = "budget", "frequency", "noise"
 
-
-class _Plan(NamedTuple):
-    """One figure to draw: its file, its caption, the note section it belongs to, how."""
-
-    path: Path
-    caption: str
-    section: str
-    draw: Callable[[Path], Any]
-
-
-def _figure_plans(study: Any, directory: Path) -> list[_Plan]:
-    """The figures this study can draw."""
-    from functools import partial
-
-
-    plans: list[_Plan] = []
-    r, n = study.response, study.noise
-    if r is not None:
-        what, band = f"V({r.output}) from {r.signal}", {"f_start": r.f_start, "f_stop": r.f_stop}
-
-        def bode(p: Path) -> Any:
-            return bode_chart(r.result, p, source=r.signal, ideal=True, **band)
-
-        def gain_error(p: Path) -> Any:
-            return gain_error_chart(r.result, p, signal=r.signal, **band)
-
-        plans.append(_Plan(directory / "bode.png", f"Bode plot: {what}", _FREQUENCY, bode))
-        plans.append(
-            _Plan(directory / "gain-error.png", f"Gain error: {what}", _FREQUENCY, gain_error)
-        )
-    if n is not None:
-        low, high = _noise_plot_band(study)
-
-        def density(p: Path) -> Any:
-            return noise_density_chart(n.result, p, f_start=low, f_stop=high)
-
-        caption = f"Output noise density at {n.budget.output}"
-        plans.append(_Plan(directory / "noise-density.png", caption, _NOISE, density))
-    if study.budget is not None:
-        draw = partial(contribution_chart, study.budget)
-        plans.append(_Plan(directory / "contributions.png", "Error contributions", _BUDGET, draw))
-    if study.sweep is not None:
-        draw = partial(temperature_chart, study.sweep)
-        plans.append(_Plan(directory / "temperature.png", "Error over temperature", _BUDGET, draw))
-    for i, s in enumerate(study.studies, start=1):
-        if s.mc is not None:
-            caption = f"Monte Carlo: {s.quantity}"
-            draw = partial(monte_carlo_histogram, s)
-            plans.append(_Plan(directory / f"monte-carlo-{i}.png", caption, _BUDGET, draw))
+def _figure_plans(study: Any, directory: Path) -> list[FigurePlan]:
+    """The figures this study can draw; an error when there are none."""
+    plans = figure_plans(study, directory)
     if not plans:
         raise _OutputError(
             "--figures: this design has nothing to draw; give op-amp parameter sets "
@@ -270,21 +213,7 @@ def _figure_plans(study: Any, directory: Path) -> list[_Plan]:
     return plans
 
 
-def _noise_plot_band(study: Any) -> tuple[float, float]:
-    """A finite plotting range for the noise band (which may start at 0 or run to ∞)."""
-    import math
-
-    n = study.noise
-    high = n.f_stop
-    if math.isinf(high):
-        high = study.response.f_stop if study.response is not None else 1e7
-    low = n.f_start if n.f_start > 0 else min(1.0, high * 1e-6)
-    if high <= low:
-        high = low * 1e6
-    return low, high
-
-
-def _write_all(plans: list[_Plan], files: dict[Path, str]) -> None:
+def _write_all(plans: list[FigurePlan], files: dict[Path, str]) -> None:
     """Draw every figure in a scratch directory, then write figures and notes together."""
     import shutil
     import tempfile
@@ -307,114 +236,9 @@ def _write_all(plans: list[_Plan], files: dict[Path, str]) -> None:
                                f"{err.strerror or err}") from None  # fmt: skip
 
 
-def _note(study: Any, fmt: str, plans: list[_Plan], path: Path, standalone: bool) -> str:
-    """A design note with its frequency-response and noise sections, figures in place."""
-    import os
-
-
-    here = path.parent.resolve()
-
-    def figures(section: str) -> list[tuple[Path, str]]:
-        return [(Path(os.path.relpath(p.path.resolve(), here)), p.caption)
-                for p in plans if p.section == section]  # fmt: skip
-
-    r, n = study.response, study.noise
-    frequency = noise = None
-    if r is not None:
-        frequency = FrequencySection(r.result, source=r.signal, points=_response_points(r),
-                                     figures=figures(_FREQUENCY))  # fmt: skip
-    if n is not None:
-        noise = NoiseSection(
-            n.result, n.f_start, n.f_stop, figures=figures(_NOISE), signal=n.signal
-        )
-    d = study.design
-    return design_note(
-        study.result, study.budget, title=None, conditions=study.conditions,
-        choices=study.choices, studies=study.studies, sweep=study.sweep,
-        figures=figures(_BUDGET), frequency=frequency, noise=noise, fmt=fmt,
-        standalone=standalone, values=d.values, notes=d.notes, parameters=d.opamps,
-        resistors=d.resistors, grade=_grade(study), operating=study.operating,
-    )  # fmt: skip
-
-
-def _grade(study: Any) -> str:
-    """The grade the budget took from the parameter sets (its default: the limits)."""
-    return study.design.budget.grade if study.design.budget is not None else "max"
-
-
 def _source(study: Any) -> str:
     """The design file, for warnings."""
     return str(study.design.source)
-
-
-def _response_points(r: Any) -> list[float]:
-    """The note's response table: DC, the ``[response]`` grid and the ``at`` frequencies."""
-    out: list[float] = []
-    for f in sorted({0.0, *(p.frequency for p in r.grid), *(p.frequency for p in r.points)}):
-        if not out or f > out[-1] * (1 + 1e-9):  # a grid point and an `at` point coincide
-            out.append(f)
-    return out
-
-
-def _summary(study: Any, out: TextIO) -> None:
-
-    d, res = study.design, study.result
-
-    def say(text: str = "") -> None:
-        print(text, file=out)
-
-    target = d.output if isinstance(d.output, str) else f"{d.output[0]} - {d.output[1]}"
-    say(f"{d.title}  ({d.source})")
-    say("=" * min(78, max(20, len(d.title) + len(d.source) + 4)))
-    if d.notes:
-        say(d.notes)
-        say()
-    say("Elements:")
-    for line in element_lines(d.circuit, d.values, d.opamps, d.resistors, _grade(study)):
-        say(f"  {line}")
-    say()
-    say("Nominal operating point (signals at their values, error sources at zero, DC):")
-    if study.operating is not None:
-        for line in study.operating.lines():
-            say(f"  {line}")
-    else:
-        say(f"  not computed: {study.operating_problem}")
-    say()
-    say(f"Terms of V({target}), each source times its coefficient:")
-    width = max((len(str(s)) for s in res.terms), default=4)
-    for source in res.terms:
-        coeff = res.coefficient(source)  # collected over one denominator, cached
-        number = study.numbers.get(source)
-        tail = f"   [= {number:.6g}]" if number is not None and not coeff.is_number else ""
-        say(f"  {source!s:>{width}} x {coeff}{tail}")
-    if study.conditions:
-        say()
-        say("Null conditions:")
-        for request, eq in zip(d.nulls, study.conditions, strict=True):
-            say(f"  {request}: {eq.lhs} = {eq.rhs}")
-        for choice in study.choices:
-            say(f"    {choice.describe()}")
-    if study.sensitivities:
-        say()
-        kind = "Normalized sensitivities" if d.sensitivity.normalized else "Sensitivities"
-        say(f"{kind} (of a coefficient to a component):")
-        for of, to, s in study.sensitivities:
-            say(f"  S({of}, {to}) = {s}")
-    if study.budget is not None:
-        say()
-        say(study.budget.to_text())
-    if study.sweep is not None:
-        say()
-        say(study.sweep.to_text())
-    for s in study.studies:
-        say()
-        say(s.to_text())
-    if study.response is not None:
-        say()
-        say(study.response.to_text())
-    if study.noise is not None:
-        say()
-        say(study.noise.to_text())
 
 
 class _Progress:

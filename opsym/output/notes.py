@@ -8,6 +8,8 @@ rails, with a warning for any voltage outside them), the conventions, the symbol
 chosen for them), the numeric budget and any tolerance or temperature studies,
 optionally a frequency-response and a noise section
 (:mod:`opsym.output.sections`), figures, and the usual caution, always last.
+The content is gathered once into a :class:`~opsym.output.document.Document`
+and written by its Markdown or LaTeX renderer, so both formats say the same.
 ``standalone=True`` wraps the LaTeX in a document that pdflatex compiles with
 ``inputenc`` (UTF-8), ``fontenc`` (T1), ``lmodern``, ``textcomp``, ``amsmath``,
 ``booktabs`` and ``graphicx``; the trade's symbols (Ω µ ‖ ± °) are written as
@@ -29,7 +31,6 @@ True
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
-from pathlib import Path
 from typing import Any
 
 import sympy as sp
@@ -39,8 +40,21 @@ from ..errors import BudgetError
 from ..model.nonideal import KINDS
 from ..model.symbols import latex_name
 from .circuit_text import element_lines
+from .document import (
+    Block,
+    Bullets,
+    Document,
+    Figure,
+    Math,
+    Paragraph,
+    Section,
+    TableBlock,
+    Text,
+    figure_list,
+    latex,
+    markdown,
+)
 from .sections import FrequencySection, NoiseSection
-from .tables import latex_text
 
 __all__ = ["CAUTION", "conventions", "design_note"]
 
@@ -174,6 +188,27 @@ def design_note(
     -------
     str
     """
+    _check_arguments(fmt, frequency, noise)
+    circuit = getattr(result, "circuit", None)
+    elements = (element_lines(circuit, values, parameters, resistors, grade)
+                if circuit is not None else [])  # fmt: skip
+    sections = [
+        Section("Circuit", (Bullets(tuple(map(Text, elements or ["(no circuit attached)"]))),)),
+        *_operating_section(operating),
+        *_conventions_section(circuit),
+        *_terms_sections(result, list(conditions), list(choices)),
+        *_budget_sections(budget, [*studies], sweep, figure_list(figures)),
+        *(s.section() for s in (frequency, noise) if s is not None),
+        Section("Caution", (Paragraph(CAUTION),)),
+    ]
+    title = title or f"Design note: {getattr(circuit, 'title', '') or 'circuit'}"
+    doc = Document(title, (notes,) if notes else (), tuple(sections))
+    if fmt == "markdown":
+        return markdown(doc)
+    return _standalone(latex(doc)) if standalone else latex(doc)
+
+
+def _check_arguments(fmt: str, frequency: Any, noise: Any) -> None:
     if fmt not in ("latex", "markdown"):
         raise BudgetError(f"design_note: fmt {fmt!r} is not known; use 'latex' or 'markdown'")
     if frequency is not None and not isinstance(frequency, FrequencySection):
@@ -186,114 +221,62 @@ def design_note(
             "design_note: noise= takes a NoiseSection; "
             "wrap the noise result and band: NoiseSection(noise, f_low, f_high)"
         )
-    extra = [s for s in (frequency, noise) if s is not None]
-    circuit = getattr(result, "circuit", None)
-    title = title or f"Design note: {getattr(circuit, 'title', '') or 'circuit'}"
+
+
+def _operating_section(operating: Any) -> list[Section]:
+    """The nominal operating point, warnings in bold; none when it was not computed."""
+    lines = operating.lines() if operating is not None else []
+    if not lines:
+        return []
+    items = tuple(Text(line, strong=line.startswith("WARNING")) for line in lines)
+    return [Section("Nominal operating point", (Paragraph(_OPERATING), Bullets(items)))]
+
+
+def _conventions_section(circuit: Any) -> list[Section]:
+    """The conventions of the circuit's error sources; none for ideal op-amps."""
+    stated = conventions(circuit)
+    return [Section("Conventions", (Bullets(tuple(map(Text, stated))),))] if stated else []
+
+
+def _terms_sections(result: Any, conditions: list[Any], choices: list[Any]) -> list[Section]:
+    """The symbolic terms (bias as Ib and Ios where both pins carry it), then the conditions."""
     shown = result
     if any(s.name.endswith(".Ib+") for s in result.terms):
         shown = result.with_average_bias()
-    conditions = list(conditions)
     names = _names(shown, conditions)
-    terms_latex = shown.latex(names) if hasattr(shown, "latex") else sp.latex(shown.expression)
-    figs = [(Path(f), "") if not isinstance(f, tuple) else (Path(f[0]), str(f[1]))
-            for f in figures]  # fmt: skip
-    elements = (element_lines(circuit, values, parameters, resistors, grade)
-                if circuit is not None else [])  # fmt: skip
-    op_lines = operating.lines() if operating is not None else []
-    tables_md = [t.to_markdown() for t in [*studies] if t is not None]
-    if fmt == "markdown":
-        out = [f"## {title}", ""]
-        if notes:
-            out += [notes, ""]
-        out += ["### Circuit", ""]
-        out += [f"- {line}" for line in elements] or ["- (no circuit attached)"]
-        if op_lines:
-            out += ["", "### Nominal operating point", "", _OPERATING, ""]
-            out += [f"- {'**' + line + '**' if line.startswith('WARNING') else line}"
-                    for line in op_lines]  # fmt: skip
-        out += ["", "### Conventions", "", *[f"- {c}" for c in conventions(circuit)]]
-        out += ["", "### Symbolic terms", "", "$$", terms_latex, "$$"]
-        if conditions or list(choices):
-            out += ["", "### Conditions", ""]
-            out += [f"- ${_condition_latex(eq, names)}$" for eq in conditions]
-            out += [f"- {ch.describe()}" for ch in choices]
-        if budget is not None or tables_md or sweep is not None:
-            out += ["", "### Numeric budget", ""]
-            if budget is not None:
-                out += [budget.to_markdown(), ""]
-            for t in tables_md:
-                out += [t, ""]
-            if sweep is not None:
-                out += [sweep.to_markdown(), ""]
-        for path, caption in figs:  # the budget's figures, next to its tables
-            out += ["", f"![{caption or path.stem}]({path.as_posix()})"]
-        for section in extra:
-            out += ["", section.markdown()]
-        out += ["", "### Caution", "", CAUTION, ""]
-        return "\n".join(out)
-
-    body = [r"\section*{" + latex_text(title) + "}"]
-    if notes:
-        body += [latex_text(notes), ""]
-    body += [r"\subsection*{Circuit}"]
-    if elements:
-        body += [r"\begin{itemize}"]
-        body += [r"\item " + latex_text(line) for line in elements]
-        body += [r"\end{itemize}"]
-    if op_lines:
-        body += [r"\subsection*{Nominal operating point}", latex_text(_OPERATING)]
-        body += [r"\begin{itemize}"]
-        body += [r"\item " + (r"\textbf{" + latex_text(line) + "}" if line.startswith("WARNING")
-                              else latex_text(line)) for line in op_lines]  # fmt: skip
-        body += [r"\end{itemize}"]
-    body += [r"\subsection*{Conventions}", r"\begin{itemize}"]
-    body += [r"\item " + latex_text(c) for c in conventions(circuit)]
-    body += [r"\end{itemize}", r"\subsection*{Symbolic terms}", r"\["]
-    body += [terms_latex, r"\]"]
-    choices = list(choices)
+    terms = shown.latex(names) if hasattr(shown, "latex") else sp.latex(shown.expression)
+    out = [Section("Symbolic terms", (Math(terms),))]
     if conditions or choices:
-        body += [r"\subsection*{Conditions}", r"\begin{itemize}"]
-        body += [r"\item $" + _condition_latex(eq, names) + "$" for eq in conditions]
-        body += [r"\item " + latex_text(ch.describe()) for ch in choices]
-        body += [r"\end{itemize}"]
-    studies = [s for s in studies if s is not None]
-    if budget is not None or studies or sweep is not None:
-        body += [r"\subsection*{Numeric budget}"]
-        # Tables and figures stay in place (no floats), so the note reads in order and
-        # the caution comes last.
-        tables = [budget.table()] if budget is not None else []
-        tables += [s.table() for s in studies]
-        if sweep is not None:
-            tables.append(sweep.table())
-        for t in tables:
-            body += [r"\begin{center}"]
-            if t.caption:
-                body += [r"\textbf{" + latex_text(t.caption) + r"}\par\smallskip"]
-            body += [t.to_latex(float_env=False), r"\end{center}"]
-    for path, caption in figs:  # the budget's figures, next to its tables
-        body += [
-            r"\begin{center}",
-            r"\includegraphics[width=0.8\linewidth]{" + path.as_posix() + "}",
-        ]
-        if caption:
-            body.append(r"\par\smallskip " + latex_text(caption))
-        body.append(r"\end{center}")
-    body += [section.latex() for section in extra]
-    body += [r"\subsection*{Caution}", latex_text(CAUTION)]
-    text = "\n".join(body) + "\n"
-    if standalone:
-        preamble = "\n".join([
-            r"\documentclass{article}",
-            r"\usepackage[utf8]{inputenc}",
-            r"\usepackage[T1]{fontenc}",
-            r"\usepackage{lmodern}",
-            r"\usepackage{textcomp}",
-            r"\usepackage{amsmath}",
-            r"\usepackage{booktabs}",
-            r"\usepackage{graphicx}",
-            r"\usepackage[margin=2cm]{geometry}",
-            *_unusual_characters(text),
-            r"\begin{document}",
-        ])  # fmt: skip
-        text = preamble + "\n" + text + r"\end{document}" + "\n"
-    return text
+        items = [Text(_condition_latex(eq, names), math=True) for eq in conditions]
+        items += [Text(ch.describe()) for ch in choices]
+        out.append(Section("Conditions", (Bullets(tuple(items)),)))
+    return out
+
+
+def _budget_sections(
+    budget: Any, studies: list[Any], sweep: Any, figures: tuple[Figure, ...]
+) -> list[Section]:
+    """The numeric budget, tolerance and temperature tables, and the budget's figures."""
+    tables = [t for t in (budget, *studies, sweep) if t is not None]  # a study may be None
+    blocks: tuple[Block, ...] = (*(TableBlock(t.table()) for t in tables), *figures)
+    if not blocks:
+        return []
+    return [Section("Numeric budget" if tables else None, blocks)]
+
+
+def _standalone(body: str) -> str:
+    """The note as a complete document that pdflatex compiles on its own."""
+    preamble = [
+        r"\documentclass{article}",
+        r"\usepackage[utf8]{inputenc}",
+        r"\usepackage[T1]{fontenc}",
+        r"\usepackage{lmodern}",
+        r"\usepackage{textcomp}",
+        r"\usepackage{amsmath}",
+        r"\usepackage{booktabs}",
+        r"\usepackage{graphicx}",
+        r"\usepackage[margin=2cm]{geometry}",
+        *_unusual_characters(body),
+        r"\begin{document}",
+    ]
+    return "\n".join(preamble) + "\n" + body + r"\end{document}" + "\n"

@@ -26,50 +26,28 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable
 from dataclasses import dataclass, field
-from pathlib import Path
 from typing import Any
 
 import numpy as np
 
 from ..errors import BudgetError, InvalidValueError, NoSolutionError
 from ..numeric.units import format_si
+from .document import (
+    Fact,
+    Math,
+    Paragraph,
+    Section,
+    TableBlock,
+    figure_list,
+    latex_section,
+    markdown_section,
+)
 from .figures import _has_gain_model, _is_current
 from .latex import transfer_latex
 from .noise import noise_latex, noise_table
-from .tables import Table, latex_text
+from .tables import Table
 
 __all__ = ["FrequencySection", "NoiseSection", "response_table"]
-
-
-def _figure_list(figures: Iterable[Any]) -> tuple[tuple[Path, str], ...]:
-    return tuple(
-        (Path(f[0]), str(f[1])) if isinstance(f, tuple) else (Path(f), "") for f in figures
-    )
-
-
-def _figures_latex(figures: Iterable[tuple[Path, str]]) -> list[str]:
-    out = []
-    for path, caption in figures:
-        out += [
-            r"\begin{center}",
-            r"\includegraphics[width=0.8\linewidth]{" + path.as_posix() + "}",
-        ]
-        if caption:
-            out.append(r"\par\smallskip " + latex_text(caption))
-        out.append(r"\end{center}")
-    return out
-
-
-def _figures_markdown(figures: Iterable[tuple[Path, str]]) -> list[str]:
-    return [f"![{caption or path.stem}]({path.as_posix()})" for path, caption in figures]
-
-
-def _table_latex(table: Table) -> list[str]:
-    """The table with its caption in one unbreakable block (a minipage), centred, in place."""
-    out = [r"\begin{center}", r"\begin{minipage}{\linewidth}", r"\centering"]
-    if table.caption:
-        out.append(r"\textbf{" + latex_text(table.caption) + r"}\par\smallskip")
-    return [*out, table.to_latex(float_env=False), r"\end{minipage}", r"\end{center}"]
 
 
 def _fraction_text(x: float) -> str:
@@ -196,7 +174,7 @@ class FrequencySection:
             raise InvalidValueError(
                 "FrequencySection needs a Laplace-domain result; analyse with domain='s'"
             )
-        object.__setattr__(self, "figures", _figure_list(self.figures))
+        object.__setattr__(self, "figures", figure_list(self.figures))
         try:
             band = self.result.passband(self._symbol())
         except InvalidValueError:
@@ -268,22 +246,20 @@ class FrequencySection:
             first = f"Response (exact, from H(s)): {text}."
         return [first] + ([self._gain_error] if self._gain_error else [])
 
+    def section(self) -> Section:
+        """The section's content: ``H(s)``, the band and gain error, the table, figures."""
+        formula = Math(transfer_latex(self.result, self.source))
+        facts = tuple(Fact(line) for line in self._lines())
+        blocks = (formula, *facts, TableBlock(self.table(), True))
+        return Section("Frequency response", (*blocks, *self.figures))
+
     def latex(self) -> str:
         """The section as LaTeX (needs ``amsmath``, ``booktabs``, ``graphicx``)."""
-        out = [r"\subsection*{Frequency response}", r"\[", transfer_latex(self.result,
-               self.source), r"\]"]  # fmt: skip
-        out += [r"\par " + latex_text(line) for line in self._lines()]
-        out += _table_latex(self.table())
-        out += _figures_latex(self.figures)  # type: ignore[arg-type]  # normalised above
-        return "\n".join(out)
+        return latex_section(self.section())
 
     def markdown(self) -> str:
         """The section as Markdown, formulas in ``$$`` blocks."""
-        out = ["### Frequency response", "", "$$", transfer_latex(self.result, self.source), "$$"]
-        out += ["", *(f"- {line}" for line in self._lines()), "", self.table().to_markdown()]
-        for line in _figures_markdown(self.figures):  # type: ignore[arg-type]
-            out += ["", line]
-        return "\n".join(out)
+        return markdown_section(self.section())
 
 
 @dataclass(frozen=True)
@@ -314,7 +290,7 @@ class NoiseSection:
             raise BudgetError(
                 "NoiseSection needs a noise result; build it with circuit.noise(output, values)"
             )
-        object.__setattr__(self, "figures", _figure_list(self.figures))
+        object.__setattr__(self, "figures", figure_list(self.figures))
         budget = self.noise.budget(self.f_low, self.f_high, self.signal)
         object.__setattr__(self, "budget", budget)
 
@@ -324,18 +300,16 @@ class NoiseSection:
         "voltage noise is in series with the + pin and current noise flows into each pin."
     )
 
+    def section(self) -> Section:
+        """The section's content: the noise sum, the budget table, figures."""
+        table = TableBlock(noise_table(self.budget), unbreakable=True)
+        blocks = (Paragraph(self._INTRO), Math(noise_latex(self.noise)), table)
+        return Section("Noise", (*blocks, *self.figures))
+
     def latex(self) -> str:
         """The section as LaTeX."""
-        out = [r"\subsection*{Noise}", latex_text(self._INTRO), r"\["]
-        out += [noise_latex(self.noise), r"\]"]
-        out += _table_latex(noise_table(self.budget))
-        out += _figures_latex(self.figures)  # type: ignore[arg-type]  # normalised above
-        return "\n".join(out)
+        return latex_section(self.section())
 
     def markdown(self) -> str:
         """The section as Markdown."""
-        out = ["### Noise", "", self._INTRO, "", "$$", noise_latex(self.noise), "$$", ""]
-        out += [noise_table(self.budget).to_markdown()]
-        for line in _figures_markdown(self.figures):  # type: ignore[arg-type]
-            out += ["", line]
-        return "\n".join(out)
+        return markdown_section(self.section())

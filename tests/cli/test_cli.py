@@ -315,7 +315,7 @@ def test_figures_without_matplotlib_are_a_user_error(tmp_path, monkeypatch, caps
 def test_noise_plot_band_is_finite():
     from types import SimpleNamespace as S
 
-    from opsym.cli import _noise_plot_band
+    from opsym.output.report import noise_plot_band as _noise_plot_band
 
     def band(f_start, f_stop, response=None):
         return _noise_plot_band(S(noise=S(f_start=f_start, f_stop=f_stop), response=response))
