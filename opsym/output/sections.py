@@ -249,9 +249,9 @@ class FrequencySection:
     def section(self) -> Section:
         """The section's content: ``H(s)``, the band and gain error, the table, figures."""
         formula = Math(transfer_latex(self.result, self.source))
-        facts = tuple(Fact(line) for line in self._lines())
-        blocks = (formula, *facts, TableBlock(self.table(), True))
-        return Section("Frequency response", (*blocks, *self.figures))
+        facts = [Fact(line) for line in self._lines()]
+        table = TableBlock(self.table(), True)
+        return Section("Frequency response", (formula, *facts, table, *self.figures))
 
     def latex(self) -> str:
         """The section as LaTeX (needs ``amsmath``, ``booktabs``, ``graphicx``)."""
