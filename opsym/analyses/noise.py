@@ -47,6 +47,7 @@ from ..equations.mna import build_equations
 from ..errors import BudgetError, InvalidValueError, UnknownNameError
 from ..model.circuit import Circuit, to_exact
 from ..model.elements import CurrentSource, Resistor
+from ..model.limits import check_band, check_frequencies, expect_text
 from ..model.nonideal import NoiseSpectrum
 from ..model.symbols import LAPLACE, thermal_symbol
 from ..model.topology import check_topology
@@ -206,6 +207,7 @@ class NoiseResult:
 
     def source(self, name: str) -> NoiseSource:
         """The :class:`NoiseSource` called ``name`` (``"R1"``, ``"U1.en"``…)."""
+        expect_text(name, "noise source name", "'R1' or 'U1.en'")
         try:
             return self._by_name[name]
         except KeyError:
@@ -260,6 +262,7 @@ class NoiseResult:
 
     def contribution(self, name: str, f: Any) -> np.ndarray:
         """Output noise density (V/√Hz) due to source ``name`` alone, at ``f``."""
+        check_frequencies(f, f"contribution of {name}: f")
         h, density, corner = self._numeric(name)
         freq = np.asarray(f, dtype=float)
         shape = np.sqrt(1 + corner / freq) if corner else np.ones_like(freq)
@@ -271,11 +274,13 @@ class NoiseResult:
 
     def density(self, f: Any) -> np.ndarray:
         """Total output noise density, V/√Hz: the root-sum-square of the contributions."""
+        check_frequencies(f, "density f")
         parts = self.contributions(f)
         return np.sqrt(sum(p**2 for p in parts.values()))
 
     def gain(self, f: Any, signal: str | None = None) -> np.ndarray:
         """``|H|`` of the signal path at ``f``."""
+        check_frequencies(f, "gain f")
         sym = self._signal(signal)
         h = self._evaluator(f"signal {sym}", self._signals[sym])
         return np.abs(h(np.asarray(f, dtype=float)))
@@ -292,6 +297,7 @@ class NoiseResult:
 
         ``name`` gives one source's part; otherwise the total.
         """
+        f_low, f_high = check_band(f_low, f_high, "rms")
         self._check_band(f_low, name)
         if name is not None:
             return math.sqrt(integrate(lambda f: self.contribution(name, f) ** 2, f_low, f_high))
@@ -299,11 +305,13 @@ class NoiseResult:
 
     def input_rms(self, f_low: float, f_high: float, signal: str | None = None) -> float:
         """RMS of the input-referred density over the band."""
+        f_low, f_high = check_band(f_low, f_high, "input_rms")
         self._check_band(f_low, None)
         return math.sqrt(integrate(lambda f: self.input_density(f, signal) ** 2, f_low, f_high))
 
     def budget(self, f_low: float, f_high: float, signal: str | None = None) -> NoiseBudget:
         """Each source's RMS over the band and its share of the total noise power."""
+        f_low, f_high = check_band(f_low, f_high, "noise budget")
         parts = {name: self.rms(f_low, f_high, name) for name in self.names}
         total = math.sqrt(sum(v**2 for v in parts.values()))
         rows = tuple(

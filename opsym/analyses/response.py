@@ -15,6 +15,7 @@ import numpy as np
 import sympy as sp
 
 from ..errors import InvalidValueError, NoSolutionError
+from ..model.limits import check_frequencies
 from ..numeric.frequency import HALF_POWER_DB
 
 __all__ = ["FrequencyResponse"]
@@ -69,6 +70,7 @@ class FrequencyResponse:
         [0.99999, 0.7071]
         """
         self._need_s("response")
+        check_frequencies(f, "response f")
         sym = self._signal(source) if source is None else self._source_symbol(source)
         result = self.ideal() if ideal else self
         from ..numeric.frequency import evaluator

@@ -36,6 +36,7 @@ import sympy as sp
 from ..errors import InvalidValueError, NoSolutionError, SingularCircuitError, UnknownNameError
 from ..model.circuit import Circuit, to_exact
 from ..model.elements import OpAmp
+from ..model.limits import expect_mapping
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
 from .present import at_infinity, tidy, transfer_form
 from .response import FrequencyResponse
@@ -241,7 +242,8 @@ class Result(FrequencyResponse):
         >>> _stage().subs({"R1": "1k", "R2": "9k"}).coefficient("U1.Ib+")
         -10*Rs
         """
-        replacements = {self._any_symbol(k): self._value(k, v) for k, v in mapping.items()}
+        items = expect_mapping(mapping, "subs", "{'R1': '10k'}").items()
+        replacements = {self._any_symbol(k): self._value(k, v) for k, v in items}
         coefficients = {s: c.xreplace(replacements) for s, c in self._coefficients.items()}
         return self._replace(
             coefficients=coefficients, post={**self._post, **replacements}, substituted=True
@@ -529,13 +531,19 @@ class Result(FrequencyResponse):
 
     def _any_symbol(self, key: Any) -> sp.Symbol:
         if isinstance(key, sp.Symbol):
-            return key
+            try:  # a look-alike symbol (other assumptions) means the circuit's own
+                return self._circuit.symbol(key.name)
+            except UnknownNameError:
+                return key
         if isinstance(key, str):
             return self._circuit.symbol(key)
         raise UnknownNameError(f"subs: key {key!r} is not a name or symbol")
 
     def _value(self, key: Any, value: Any) -> sp.Expr:
-        return to_exact(value, f"subs[{key}]")
+        from .derive import admissible
+
+        sym = self._any_symbol(key)
+        return admissible(self._circuit, sym, to_exact(value, f"subs[{key}]"), "subs")
 
     def _free_symbol(self, name: str | sp.Symbol, what: str) -> sp.Symbol:
         x = self._any_symbol(name)

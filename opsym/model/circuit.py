@@ -29,7 +29,14 @@ from typing import TYPE_CHECKING, Any
 
 import sympy as sp
 
-from ..errors import DuplicateNameError, InvalidValueError, UnknownNameError, ValueSyntaxError
+from ..errors import (
+    ArgumentTypeError,
+    CircuitError,
+    DuplicateNameError,
+    InvalidValueError,
+    UnknownNameError,
+    ValueSyntaxError,
+)
 from .elements import (
     Capacitor,
     CurrentSource,
@@ -39,6 +46,8 @@ from .elements import (
     Resistor,
     VoltageSource,
 )
+from .limits import MAX_ELEMENTS, check_float, check_magnitude, expect_text
+from .naming import check_names
 from .nonideal import KINDS, NonIdeal, SinglePole
 from .symbols import LAPLACE, OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
 
@@ -54,12 +63,14 @@ _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
 _NODE = re.compile(r"^[A-Za-z0-9_][A-Za-z0-9_+\-]*$")
 
 
-def to_exact(value: Any, where: str) -> sp.Expr:
+def to_exact(value: Any, where: str, unit: str | None = None) -> sp.Expr:
     """Turn a user number or expression into an exact SymPy value.
 
     Floats become the exact rational of their shortest decimal form
     (``0.1`` → ``1/10``), so the algebra stays exact; text goes through the
-    whitelist value parser (``"10k"``). ``where`` names the field for messages.
+    whitelist value parser (``"10k"``). ``where`` names the field for messages;
+    ``unit`` (``"Ω"``, ``"F"``…) is the unit text must carry if it carries one.
+    Every number must lie within the limits of :mod:`opsym.model.limits`.
 
     Examples
     --------
@@ -68,19 +79,24 @@ def to_exact(value: Any, where: str) -> sp.Expr:
     >>> to_exact("10k", "R1")
     10000
     """
+    exact = _exact(value, where, unit)
+    return check_magnitude(exact, where) if isinstance(exact, sp.Number) else exact
+
+
+def _exact(value: Any, where: str, unit: str | None) -> sp.Expr:
     if isinstance(value, bool) or value is None:
         raise InvalidValueError(f"{where}: {value!r} is not a value; give a number or expression")
     if isinstance(value, str):
         from ..io.values import parse_value  # the whitelist parser, never sympify
 
-        return parse_value(value, where=where)
+        return parse_value(value, where=where, unit=unit)
     if isinstance(value, sp.Basic):
         if not isinstance(value, sp.Expr):
             raise InvalidValueError(f"{where}: {value!r} is not an expression")
         if value.has(sp.nan, sp.zoo, sp.oo, -sp.oo):
             raise InvalidValueError(f"{where}: value {value} is not finite; give a finite value")
         if isinstance(value, sp.Float):
-            return sp.Rational(repr(float(value)))
+            return sp.Rational(repr(check_float(value, where)))
         return value
     if isinstance(value, int):
         return sp.Integer(value)
@@ -97,10 +113,21 @@ def to_exact(value: Any, where: str) -> sp.Expr:
     )
 
 
+#: The unit each element kind's value is in (text with another unit is refused).
+UNITS = {
+    "resistor": "Ω",
+    "capacitor": "F",
+    "inductor": "H",
+    "voltage source": "V",
+    "current source": "A",
+    "op-amp gain": "ratio",
+}
+
+
 def _positive_value(value: Any, name: str, kind: str) -> sp.Expr:
     if value is None:
         return component_symbol(name)
-    v = to_exact(value, f"{kind} {name}")
+    v = to_exact(value, f"{kind} {name}", UNITS.get(kind))
     if v.is_number:
         if v.is_zero:
             hint = " (for a wire, give both ends the same node name)" if kind == "resistor" else ""
@@ -132,6 +159,8 @@ class Circuit:
     def __init__(self, title: str = "") -> None:
         self.title = str(title)
         self._elements: dict[str, Element] = {}
+        self._latex: dict[str, str] = {}  # element names by their LaTeX
+        self._used: dict[str, sp.Symbol] = {}  # symbols the values use, by name
 
     # -- declaring ---------------------------------------------------------------
 
@@ -157,13 +186,13 @@ class Circuit:
         """Add a signal voltage source, ``V(plus) - V(minus) = value``."""
         name = self._new_name(name)
         na, nb = self._nodes(name, plus, minus)
-        self._add(VoltageSource(name, na, nb, self._source_value(name, value)))
+        self._add(VoltageSource(name, na, nb, self._source_value(name, value, "voltage source")))
 
     def current_source(self, name: str, a: str, b: str, value: Any = None) -> None:
         """Add a signal current source; its current flows through it from ``a`` into ``b``."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(CurrentSource(name, na, nb, self._source_value(name, value)))
+        self._add(CurrentSource(name, na, nb, self._source_value(name, value, "current source")))
 
     def opamp(
         self,
@@ -230,6 +259,19 @@ class Circuit:
         wanted = [("offset", offset), ("bias", bias), ("cmrr", cmrr), ("psrr", psrr)]
         wanted += [("vnoise", noise), ("inoise", noise)]
         kinds: list[NonIdeal] = [KINDS[k]() for k, on in wanted if on]
+        if isinstance(extra, NonIdeal):
+            extra = (extra,)
+        if extra is None or isinstance(extra, str) or not isinstance(extra, Iterable):
+            raise ArgumentTypeError(
+                f"op-amp {name}: extra= expects a list of NonIdeal instances, "
+                f"not {type(extra).__name__}"
+            )
+        for flag, on in [("offset", offset), ("bias", bias), ("cmrr", cmrr), ("psrr", psrr),
+                         ("noise", noise)]:
+            if not isinstance(on, bool):
+                raise ArgumentTypeError(
+                    f"op-amp {name}: {flag}= expects True or False, not {on!r}"
+                )
         for item in extra:
             if not isinstance(item, NonIdeal):
                 raise InvalidValueError(
@@ -262,6 +304,7 @@ class Circuit:
 
     def element(self, name: str) -> Element:
         """Return the element called ``name``."""
+        expect_text(name, "element name", "'R1'")
         try:
             return self._elements[name]
         except KeyError:
@@ -272,6 +315,8 @@ class Circuit:
 
     def node(self, name: str) -> str:
         """Return the canonical spelling of node ``name``; raise if the circuit lacks it."""
+        if isinstance(name, int) and not isinstance(name, bool):
+            name = str(name)
         canon = _canonical_node(name)
         if canon not in self.nodes:
             raise UnknownNameError(
@@ -481,16 +526,23 @@ class Circuit:
             )
         return tuple(out)
 
-    def _source_value(self, name: str, value: Any) -> sp.Expr:
+    def _source_value(self, name: str, value: Any, kind: str) -> sp.Expr:
         if value is None:
             return source_symbol(name)
-        return to_exact(value, f"source {name}")
+        return to_exact(value, f"{kind} {name}", UNITS[kind])
 
     def _add(self, element: Element) -> None:
+        if len(self._elements) >= MAX_ELEMENTS:
+            raise CircuitError(
+                f"{element.kind} {element.name}: circuit {self.title!r} already has "
+                f"{MAX_ELEMENTS} elements, the most opsym accepts; split the design into stages"
+            )
+        check_names(self._elements, self._latex, self._used, element)
         self._elements[element.name] = element
 
 
 def _canonical_node(name: str) -> str:
+    expect_text(name, "node name", "'out' or '0'")
     return GROUND if name.lower() == "gnd" else name
 
 

@@ -47,6 +47,8 @@ from dataclasses import dataclass
 from typing import Any
 
 from ..errors import BudgetError
+from ..model.limits import check_float
+from ._inputs import check_values
 from ._plan import (
     RSS_RULE,
     SIGNED,
@@ -341,6 +343,8 @@ def error_budget(
     -------
     Budget
     """
+    values = check_values(values, "error_budget values", getattr(result, "circuit", None))
+    temperature = check_float(temperature, "error_budget temperature")
     plan = _prepare(
         result, values, opamps, resistors=resistors, grade=grade, signal=signal,
         input_gain=input_gain, full_scale=full_scale, adc=adc, title=title,
