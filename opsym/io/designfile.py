@@ -45,7 +45,14 @@ import sympy as sp
 
 from ..errors import DesignFileError, InvalidValueError, OpsymError
 from ..model.circuit import Circuit
-from ..model.elements import CurrentSource, VoltageSource
+from ..model.elements import (
+    Capacitor,
+    CurrentSource,
+    Inductor,
+    Resistor,
+    TwoTerminal,
+    VoltageSource,
+)
 from ..model.nonideal import KINDS, SinglePole
 from ..model.symbols import OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
 from ..model.topology import check_topology
@@ -413,6 +420,29 @@ class _Reader(SettingsReader):
                     seen.add(n)
                     path.append(n)
                     todo.extend(uses[n])
+        self.check_equals_values(equations)
+
+    def check_equals_values(self, equations: Mapping[str, tuple[Table, str]]) -> None:
+        """Refuse an ``equals`` that gives a component a value <= 0 at the given values."""
+        known = {self.names[n]: v for n, v in self.values.items() if n in self.names}
+        elements = {n: self.circuit.element(n) for n in equations}
+        defined = {self.names[n]: e.value for n, e in elements.items()
+                   if n in self.names and isinstance(e, TwoTerminal)}  # fmt: skip
+        for name, (t, key) in equations.items():
+            element = elements[name]
+            if not isinstance(element, (Resistor, Capacitor, Inductor)):
+                continue
+            value = element.value
+            for _ in range(len(defined) + 1):  # loops were refused above
+                value = value.xreplace(defined)
+            value = value.xreplace(known)
+            if value.is_number and value.is_positive is False:
+                shown = f"{float(value):.6g}" if value.is_real else str(value)
+                raise t.error(
+                    key, f"{element.kind} {name} = {element.value} is {shown} at the given "
+                    f"values; a "
+                    f"{element.kind} must be > 0: change the expression or the values it uses"
+                )
 
     def names_in(self, name: str) -> set[sp.Symbol]:
         value = getattr(self.circuit.element(name), "value", sp.S.Zero)
@@ -434,9 +464,9 @@ class _Reader(SettingsReader):
         else:
             out = top.node_of(raw, "output")
             checked = [out]
-        for node in checked:
+        for i, node in enumerate(checked):
             try:
-                circuit.node(node)
+                checked[i] = circuit.node(node)  # canonical: "gnd" and "GND" are "0"
             except OpsymError as err:
                 raise top.wrap("output", err) from err
         if checked == ["0"] or checked == ["gnd"] or (len(checked) == 2 and
