@@ -25,7 +25,7 @@ from ..equations.mna import DOMAINS, build_equations
 from ..errors import InvalidValueError, UnknownNameError
 from ..model.circuit import GROUND, Circuit, to_exact
 from ..model.elements import CurrentSource, OpAmp, VoltageSource
-from ..model.limits import expect_mapping
+from ..model.limits import expect_mapping, shown
 from ..model.symbols import LAPLACE, OPAMP_PARAMETERS, source_symbol
 from ..model.topology import check_topology
 from .result import Result, SourceInfo
@@ -120,7 +120,7 @@ def output_weights(circuit: Circuit, output, index: dict[str, int]) -> tuple[dic
         pair = (circuit.node(output[0]), circuit.node(output[1]))
     else:
         raise UnknownNameError(
-            f"output {output!r}: give a node name or a (plus, minus) pair of node names"
+            f"output {shown(output)}: give a node name or a (plus, minus) pair of node names"
         )
     if pair[0] == pair[1]:
         raise InvalidValueError(f"output {output!r}: both sides are node {pair[0]!r}")
@@ -159,8 +159,8 @@ def derive(
     domain: str = "dc",
 ) -> Result:
     """Check ``circuit``, build its equations and solve for every source's coefficient."""
-    if domain not in DOMAINS:
-        raise InvalidValueError(f"domain {domain!r} is not known; use 'dc' or 's'")
+    if not isinstance(domain, str) or domain not in DOMAINS:
+        raise InvalidValueError(f"domain {shown(domain)} is not known; use 'dc' or 's'")
     check_topology(circuit, domain)
     fixed = resolve_values(circuit, values)
     eqs = build_equations(circuit, fixed, domain=domain)

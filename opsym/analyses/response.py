@@ -15,7 +15,7 @@ import numpy as np
 import sympy as sp
 
 from ..errors import InvalidValueError, NoSolutionError
-from ..model.limits import check_frequencies
+from ..model.limits import check_float, check_frequencies
 from ..numeric.frequency import HALF_POWER_DB
 
 __all__ = ["FrequencyResponse"]
@@ -94,6 +94,9 @@ class FrequencyResponse:
         >>> round(res.bandwidth() / 1e3, 2)  # GBW/NG·(1 + A0·β)/(A0·β) = 100.00 kHz
         100.0
         """
+        drop_db = check_float(drop_db, "bandwidth drop_db")
+        if not drop_db > 0:
+            raise InvalidValueError(f"bandwidth: drop_db = {drop_db:g}; give a drop > 0, e.g. 3")
         self._need_s("bandwidth")
         sym = self._signal(source) if source is None else self._source_symbol(source)
         from ..numeric.frequency import bandwidth, evaluator
@@ -107,6 +110,7 @@ class FrequencyResponse:
         ``|…|`` is the magnitude error the trade quotes; for a single-pole
         op-amp well above its pole it is close to ``f·NG/GBW``.
         """
+        check_frequencies(f, "gain_error_response f")
         self._need_s("gain_error_response")
         sym = self._signal(signal)
         h = self.response(f, sym)

@@ -36,7 +36,7 @@ import sympy as sp
 from ..errors import InvalidValueError, NoSolutionError, SingularCircuitError, UnknownNameError
 from ..model.circuit import Circuit, to_exact
 from ..model.elements import OpAmp
-from ..model.limits import expect_mapping
+from ..model.limits import expect_mapping, shown
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
 from .present import at_infinity, tidy, transfer_form
 from .response import FrequencyResponse
@@ -527,7 +527,7 @@ class Result(FrequencyResponse):
             return source
         if isinstance(source, str):
             return self._circuit.symbol(source)
-        raise UnknownNameError(f"{source!r} is not a source name or symbol")
+        raise UnknownNameError(f"{shown(source)} is not a source name or symbol")
 
     def _any_symbol(self, key: Any) -> sp.Symbol:
         if isinstance(key, sp.Symbol):
@@ -537,7 +537,7 @@ class Result(FrequencyResponse):
                 return key
         if isinstance(key, str):
             return self._circuit.symbol(key)
-        raise UnknownNameError(f"subs: key {key!r} is not a name or symbol")
+        raise UnknownNameError(f"key {shown(key)} is not a name such as 'R1' or a symbol")
 
     def _value(self, key: Any, value: Any) -> sp.Expr:
         from .derive import admissible

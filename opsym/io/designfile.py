@@ -43,7 +43,7 @@ from typing import Any
 
 import sympy as sp
 
-from ..errors import DesignFileError, InvalidValueError, OpsymError
+from ..errors import ArgumentTypeError, DesignFileError, InvalidValueError, OpsymError
 from ..model.circuit import Circuit
 from ..model.elements import (
     Capacitor,
@@ -53,6 +53,7 @@ from ..model.elements import (
     TwoTerminal,
     VoltageSource,
 )
+from ..model.limits import expect_text
 from ..model.nonideal import KINDS, SinglePole
 from ..model.symbols import OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
 from ..model.topology import check_topology
@@ -93,6 +94,10 @@ def load_design(path: str | os.PathLike[str]) -> Design:
         model (a floating node, say) come as a DesignFileError too, with the
         model's exception as ``__cause__``.
     """
+    if not isinstance(path, (str, os.PathLike)):
+        raise ArgumentTypeError(
+            f"load_design: expected a file path such as 'amp.toml', not a {type(path).__name__}"
+        )
     name = os.fspath(path)
     try:
         with open(name, "rb") as f:
@@ -113,6 +118,8 @@ def load_design(path: str | os.PathLike[str]) -> Design:
 
 def parse_design(text: str, *, filename: str = "<text>") -> Design:
     """Read a design from TOML text; ``filename`` is used in messages."""
+    expect_text(text, "parse_design text", "the TOML text of a design file")
+    filename = str(filename)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as err:

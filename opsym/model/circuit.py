@@ -46,7 +46,7 @@ from .elements import (
     Resistor,
     VoltageSource,
 )
-from .limits import MAX_ELEMENTS, check_float, check_magnitude, expect_text
+from .limits import MAX_ELEMENTS, check_float, check_magnitude, expect_text, shown
 from .naming import check_names
 from .nonideal import KINDS, NonIdeal, SinglePole
 from .symbols import LAPLACE, OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
@@ -270,7 +270,7 @@ class Circuit:
                          ("noise", noise)]:
             if not isinstance(on, bool):
                 raise ArgumentTypeError(
-                    f"op-amp {name}: {flag}= expects True or False, not {on!r}"
+                    f"op-amp {name}: {flag}= expects True or False, not {shown(on)}"
                 )
         for item in extra:
             if not isinstance(item, NonIdeal):
@@ -315,7 +315,7 @@ class Circuit:
 
     def node(self, name: str) -> str:
         """Return the canonical spelling of node ``name``; raise if the circuit lacks it."""
-        if isinstance(name, int) and not isinstance(name, bool):
+        if isinstance(name, int) and not isinstance(name, bool) and 0 <= name < 10**9:
             name = str(name)
         canon = _canonical_node(name)
         if canon not in self.nodes:
@@ -343,7 +343,9 @@ class Circuit:
         U1.Ib-
         """
         if not isinstance(name, str):
-            raise UnknownNameError(f"symbol names are text such as 'R1' or 'U1.Vos', not {name!r}")
+            raise UnknownNameError(
+                f"symbol names are text such as 'R1' or 'U1.Vos', not {shown(name)}"
+            )
         if name == "s" and "s" not in self._elements:
             return LAPLACE
         owner, dot, what = name.partition(".")
@@ -497,7 +499,8 @@ class Circuit:
     # -- helpers -----------------------------------------------------------------
 
     def _new_name(self, name: Any) -> str:
-        if not isinstance(name, str) or not _NAME.match(name):
+        expect_text(name, "element name", "'R1'")
+        if not _NAME.match(name):
             raise InvalidValueError(
                 f"element name {name!r} is not valid; use letters, digits and '_', "
                 "starting with a letter (e.g. 'R1', 'U2', 'Vin')"
@@ -512,9 +515,10 @@ class Circuit:
     def _nodes(self, name: str, *nodes: Any) -> tuple[str, ...]:
         out = []
         for n in nodes:
-            if isinstance(n, int) and not isinstance(n, bool):
+            if isinstance(n, int) and not isinstance(n, bool) and 0 <= n < 10**9:
                 n = str(n)
-            if not isinstance(n, str) or not _NODE.match(n):
+            expect_text(n, f"element {name}: node name", "'out' or '0'")
+            if not _NODE.match(n):
                 raise InvalidValueError(
                     f"element {name}: node name {n!r} is not valid; use letters, digits, '_', "
                     "'+' or '-' (ground is '0' or 'gnd')"

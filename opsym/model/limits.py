@@ -43,6 +43,8 @@ __all__ = [
     "check_magnitude",
     "expect_mapping",
     "expect_text",
+    "read_number",
+    "shown",
 ]
 
 #: Largest magnitude of any number given (1e30: above every SI prefix, yotta is 1e24).
@@ -89,7 +91,7 @@ def check_float(value: Any, where: str) -> float:
         )
     try:
         x = float(value)
-    except (OverflowError, ValueError):
+    except (OverflowError, TypeError, ValueError):  # huge, or sympy's complex infinity
         x = math.inf
     if not math.isfinite(x) or (x != 0 and not 1e-30 <= abs(x) <= 1e30):
         raise InvalidValueError(f"{where}: the number {_sci(value)} is out of range; {_RANGE}")
@@ -193,6 +195,26 @@ def _sci(x: Any) -> str:
         return f"about 1e{digits}"
     except (TypeError, ValueError):
         return "a number"
+
+
+def read_number(value: Any, where: str, unit: str | None = None) -> float:
+    """A number, or text such as ``"10k"`` read by :func:`~opsym.parse_quantity`, in range.
+
+    Examples
+    --------
+    >>> read_number("4k7", "R1", "Ω"), read_number(2, "gain")
+    (4700.0, 2.0)
+    """
+    if isinstance(value, (Real, sp.Number)) and not isinstance(value, bool):
+        return check_float(value, where)
+    from ..numeric.units import parse_quantity
+
+    return check_float(parse_quantity(value, unit, where=where), where)
+
+
+def shown(value: Any) -> str:
+    """``repr(value)`` cut to 40 characters, safe for integers too long to print."""
+    return _short(value)
 
 
 def _short(value: Any) -> str:

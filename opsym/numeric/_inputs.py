@@ -25,8 +25,7 @@ from typing import Any
 import sympy as sp
 
 from ..errors import BudgetError, OpsymError
-from ..model.limits import check_float, expect_mapping
-from .units import parse_quantity
+from ..model.limits import expect_mapping, read_number
 
 __all__ = ["check_values"]
 
@@ -39,8 +38,7 @@ def check_values(values: Any, where: str, circuit: Any = None) -> Mapping:
             raise BudgetError(f"{where}: key {key!r} is not a name such as 'R1' or a symbol")
         name = key.name if isinstance(key, sp.Symbol) else key
         field = f"{where}[{name!r}]"
-        number = parse_quantity(raw, where=field)
-        check_float(number, field)
+        number = read_number(raw, field)
         if circuit is not None:
             _check_sign(circuit, name, number, field)
     return values

@@ -47,7 +47,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from ..errors import BudgetError
-from ..model.limits import check_float
+from ..model.limits import check_float, expect_mapping
 from ._inputs import check_values
 from ._plan import (
     RSS_RULE,
@@ -344,6 +344,8 @@ def error_budget(
     Budget
     """
     values = check_values(values, "error_budget values", getattr(result, "circuit", None))
+    opamps = expect_mapping(opamps, "error_budget opamps",
+                            "{'U1': opamp_parameters('generic CMOS')}")  # fmt: skip
     temperature = check_float(temperature, "error_budget temperature")
     plan = _prepare(
         result, values, opamps, resistors=resistors, grade=grade, signal=signal,

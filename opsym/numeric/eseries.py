@@ -33,7 +33,7 @@ from typing import Any
 import sympy as sp
 
 from ..errors import BudgetError, NoSolutionError, UnknownNameError
-from ..model.limits import check_float
+from ..model.limits import read_number, shown
 from ._inputs import check_values
 from .units import format_si, parse_quantity
 
@@ -115,7 +115,9 @@ _INTEGERS = {
 def _series_key(series: Any) -> str:
     key = str(series).strip().upper() if isinstance(series, str) else None
     if key not in SERIES:
-        raise UnknownNameError(f"unknown E-series {series!r}; choose one of {', '.join(SERIES)}")
+        raise UnknownNameError(
+            f"unknown E-series {shown(series)}; choose one of {', '.join(SERIES)}"
+        )
     return key
 
 
@@ -171,7 +173,7 @@ def preferred_value(x: Any, series: str = "E96") -> float:
     9090.0
     """
     key = _series_key(series)
-    value = check_float(parse_quantity(x, where="preferred_value x"), "preferred_value x")
+    value = read_number(x, "preferred_value x")
     if not value > 0:
         raise BudgetError(f"preferred_value: x = {value} is not positive; give a value > 0")
     table, places = _INTEGERS[key]

@@ -39,6 +39,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from ..errors import BudgetError, UnknownNameError
+from ..model.limits import shown
 from .units import db_to_ratio, parse_fraction, parse_quantity
 
 __all__ = [
@@ -509,7 +510,7 @@ def _lookup(name: Any, table: dict[str, Any], what: str) -> Any:
             if _normal(key) == want:
                 return value
     raise UnknownNameError(
-        f"no {what} named {name!r}; the shipped sets are "
+        f"no {what} named {shown(name)}; the shipped sets are "
         f"{', '.join(repr(k) for k in table)} (or build your own)"
     )
 

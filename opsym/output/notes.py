@@ -35,7 +35,8 @@ from typing import Any
 import sympy as sp
 
 from ..analyses.present import trade_form
-from ..errors import BudgetError
+from ..errors import ArgumentTypeError, BudgetError
+from ..model.limits import shown as _shown
 from ..model.symbols import latex_name
 from .circuit_text import element_lines
 from .sections import FrequencySection, NoiseSection
@@ -162,8 +163,14 @@ def design_note(
     -------
     str
     """
-    if fmt not in ("latex", "markdown"):
-        raise BudgetError(f"design_note: fmt {fmt!r} is not known; use 'latex' or 'markdown'")
+    if not (hasattr(result, "terms") and hasattr(result, "circuit")):
+        raise ArgumentTypeError(
+            f"design_note: expected a Result of Circuit.analyze, not a {type(result).__name__}"
+        )
+    if not isinstance(fmt, str) or fmt not in ("latex", "markdown"):
+        raise BudgetError(
+            f"design_note: fmt {_shown(fmt)} is not known; use 'latex' or 'markdown'"
+        )
     if frequency is not None and not isinstance(frequency, FrequencySection):
         raise BudgetError(
             "design_note: frequency= takes a FrequencySection; "
