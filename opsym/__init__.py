@@ -34,6 +34,7 @@ from .errors import (
     OpsymError,
     SingularCircuitError,
     UnknownNameError,
+    ValueRangeError,
     ValueSyntaxError,
 )
 from .io.design import Design
@@ -114,6 +115,7 @@ __all__ = [
     "SourceInfo",
     "SupplyRejection",
     "UnknownNameError",
+    "ValueRangeError",
     "ValueSyntaxError",
     "VoltageNoise",
     "__version__",

@@ -33,6 +33,7 @@ __all__ = [
     "OpsymError",
     "SingularCircuitError",
     "UnknownNameError",
+    "ValueRangeError",
     "ValueSyntaxError",
 ]
 
@@ -86,6 +87,10 @@ class DesignFileError(OpsymError, ValueError):
 
 class ValueSyntaxError(OpsymError, ValueError):
     """A value or expression written as text could not be read."""
+
+
+class ValueRangeError(ValueSyntaxError):
+    """A value is not finite or beyond the range opsym reads (see ``parse_value``)."""
 
 
 class BudgetError(OpsymError, ValueError):

@@ -238,7 +238,7 @@ def _gauss_legendre_log(fn, f_lo, f_hi, nodes=40):
 
 
 def test_band_rms_matches_quadrature_of_reference_densities():
-    # opsym's log-trapezoid rms against Gauss–Legendre over the reference's densities
+    # opsym's adaptive rms against Gauss–Legendre over the reference's densities
     desc = circuits_ac.inverting_pole()
     c, values = circuits_ac.to_circuit(desc)
     values.update({"U1.en": 8e-9, "U1.in": 0.6e-12})

@@ -35,6 +35,7 @@ Noise budget at out, 10 Hz to 10 kHz...
 from __future__ import annotations
 
 import math
+import warnings
 from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
@@ -52,7 +53,13 @@ from ..model.nonideal import NoiseSpectrum
 from ..model.symbols import LAPLACE, thermal_symbol
 from ..model.topology import check_topology
 from ..numeric._views import TableViews
-from ..numeric.frequency import evaluation_form, evaluator, integrate
+from ..numeric.frequency import (
+    IntegrationWarning,
+    evaluation_form,
+    evaluator,
+    integrate_with_error,
+    natural_frequencies,
+)
 from .derive import coefficients_of, output_weights, resolve_values, sources_of
 from .present import transfer_form
 from .result import SourceInfo
@@ -181,6 +188,7 @@ class NoiseResult:
         self._values = dict(values)
         self._temperature = temperature
         self._compiled: dict[str, Any] = {}
+        self._forms: dict[str, sp.Expr] = {}
         self._readable: dict[str, sp.Expr] = {}
 
     # -- what was derived ------------------------------------------------------------
@@ -295,25 +303,82 @@ class NoiseResult:
     def rms(self, f_low: float, f_high: float, name: str | None = None) -> float:
         """RMS output noise over ``f_low``–``f_high`` Hz (``f_high`` may be ``inf``).
 
-        ``name`` gives one source's part; otherwise the total.
+        ``name`` gives one source's part; otherwise the total. The integral is
+        adaptive, with break points at every pole and zero of the transfers, so
+        a resonance of any Q is resolved; :meth:`rms_with_error` also gives the
+        error estimate.
+        """
+        return self.rms_with_error(f_low, f_high, name)[0]
+
+    def rms_with_error(
+        self, f_low: float, f_high: float, name: str | None = None
+    ) -> tuple[float, float]:
+        """``(rms, error)``: :meth:`rms` and its estimated absolute error, V.
+
+        Examples
+        --------
+        kT/C: the thermal noise of R across C in a series RLC is √(kT/C)
+        whatever R, L and the Q (Johnson–Nyquist); here Q = 1000:
+
+        >>> import math, opsym
+        >>> c = opsym.Circuit("series RLC")
+        >>> c.resistor("R1", "0", "a", value=1)
+        >>> c.inductor("L1", "a", "b", value="1m")
+        >>> c.capacitor("C1", "b", "0", value="1n")
+        >>> value, error = c.noise("b").rms_with_error(0, math.inf)
+        >>> kt_c = math.sqrt(1.380649e-23 * 298.15 / 1e-9)
+        >>> round(value / kt_c, 9), error < 1e-9 * value
+        (1.0, True)
         """
         f_low, f_high = check_band(f_low, f_high, "rms")
         self._check_band(f_low, name)
+        names = self.names if name is None else (name,)
         if name is not None:
-            return math.sqrt(integrate(lambda f: self.contribution(name, f) ** 2, f_low, f_high))
-        return math.sqrt(integrate(lambda f: self.density(f) ** 2, f_low, f_high))
+            power = lambda f: self.contribution(name, f) ** 2  # noqa: E731 - one-line density
+        else:
+            power = lambda f: self.density(f) ** 2  # noqa: E731 - one-line density
+        value, error = integrate_with_error(power, f_low, f_high, self._breakpoints(names))
+        return _rms_of(value, error)
 
     def input_rms(self, f_low: float, f_high: float, signal: str | None = None) -> float:
         """RMS of the input-referred density over the band."""
+        return self.input_rms_with_error(f_low, f_high, signal)[0]
+
+    def input_rms_with_error(
+        self, f_low: float, f_high: float, signal: str | None = None
+    ) -> tuple[float, float]:
+        """``(rms, error)``: :meth:`input_rms` and its estimated absolute error.
+
+        Raises :class:`opsym.BudgetError` when the signal gain falls to zero
+        in the band (a notch): the input-referred noise is unbounded there.
+        """
         f_low, f_high = check_band(f_low, f_high, "input_rms")
         self._check_band(f_low, None)
-        return math.sqrt(integrate(lambda f: self.input_density(f, signal) ** 2, f_low, f_high))
+        sym = self._signal(signal)
+        breaks = {*self._breakpoints(self.names)}
+        breaks.update(natural_frequencies(self._signal_form(sym)))
+        with warnings.catch_warnings():
+            warnings.simplefilter("error", IntegrationWarning)
+            try:
+                value, error = integrate_with_error(
+                    lambda f: self.input_density(f, signal) ** 2, f_low, f_high, breaks
+                )
+            except IntegrationWarning:
+                raise BudgetError(
+                    f"the input-referred noise of {sym} does not integrate over "
+                    f"{f_low:g} Hz to {f_high:g} Hz: the signal gain falls to (nearly) zero "
+                    "in the band; refer the noise to the input over a band without the notch"
+                ) from None
+        return _rms_of(value, error)
 
     def budget(self, f_low: float, f_high: float, signal: str | None = None) -> NoiseBudget:
         """Each source's RMS over the band and its share of the total noise power."""
         f_low, f_high = check_band(f_low, f_high, "noise budget")
-        parts = {name: self.rms(f_low, f_high, name) for name in self.names}
+        found = {name: self.rms_with_error(f_low, f_high, name) for name in self.names}
+        parts = {name: v for name, (v, _) in found.items()}
         total = math.sqrt(sum(v**2 for v in parts.values()))
+        power_error = sum(2 * v * e + e**2 for v, e in found.values())
+        total_error = _rms_of(total**2, power_error)[1]
         rows = tuple(
             NoiseRow(
                 name=n,
@@ -342,6 +407,7 @@ class NoiseResult:
             total=total,
             input_rms=input_rms,
             input_unit=input_unit,
+            total_error=total_error,
         )
 
     def __repr__(self) -> str:
@@ -368,12 +434,25 @@ class NoiseResult:
             src = self.source(name)
             compact = self._substituted(src.transfer)
             form = evaluation_form(compact, lambda: self.transfer(name))
+            self._forms[name] = form
             h = evaluator(form, f"the transfer from {name}")
             density = self._number(self._substituted(src.spectrum.density), f"{name} density")
             corner_expr = self._substituted(src.spectrum.corner)
             corner = 0.0 if corner_expr.free_symbols else self._number(corner_expr, "")
             self._compiled[name] = (h, density, corner)
         return self._compiled[name]
+
+    def _breakpoints(self, names: tuple[str, ...]) -> list[float]:
+        """Natural frequencies of the poles and zeros of the transfers of ``names``."""
+        found: set[float] = set()
+        for n in names:
+            self._numeric(n)
+            found.update(natural_frequencies(self._forms[n]))
+        return sorted(found)
+
+    def _signal_form(self, sym: sp.Symbol) -> sp.Expr:
+        compact = self._substituted(self._signals[sym])
+        return evaluation_form(compact, lambda: transfer_form(compact, LAPLACE))
 
     def _evaluator(self, what: str, expr: sp.Expr):
         return evaluator(self._substituted(expr), what)
@@ -402,6 +481,14 @@ class NoiseResult:
         return next(iter(self._signals))
 
 
+def _rms_of(power: float, power_error: float) -> tuple[float, float]:
+    """``(√P, error of √P)`` from a power and its absolute error."""
+    rms = math.sqrt(max(power, 0.0))
+    if rms == 0:
+        return rms, math.sqrt(power_error)
+    return rms, min(power_error / (2 * rms), math.sqrt(power_error))
+
+
 @dataclass(frozen=True)
 class NoiseRow:
     """One line of a noise budget: RMS at the output over the band, share of power."""
@@ -414,7 +501,11 @@ class NoiseRow:
 
 @dataclass(frozen=True)
 class NoiseBudget(TableViews):
-    """RMS noise over a band, source by source, with the total and a p-p estimate."""
+    """RMS noise over a band, source by source, with the total and a p-p estimate.
+
+    ``total_error`` is the estimated absolute error of ``total`` from the band
+    integrals (adaptive quadrature), V rms; ``None`` when not known.
+    """
 
     output: str
     f_low: float
@@ -424,6 +515,7 @@ class NoiseBudget(TableViews):
     total: float
     input_rms: float | None
     input_unit: str = "V"
+    total_error: float | None = None
 
     @property
     def peak_to_peak(self) -> float:

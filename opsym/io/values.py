@@ -12,7 +12,10 @@ What a value may contain
   notation (``4k7`` is 4.7k): ``y z a f p n u µ μ m k M G T`` (``m`` is milli,
   ``M`` mega; ``K`` is read as kilo too, as the trade often writes it). ``R``
   marks the decimal point of a plain value (``2R2`` is 2.2, ``100R`` is 100).
-  There is no ``meg``: write ``M``.
+  SPICE's ``meg`` is read as mega in any case (``1meg``, ``1Meg``, ``1MEG``,
+  ``10 megohm``), as in the scale factors of the SPICE3 user manual. SPICE's
+  ``mil`` (a thousandth of an inch, easily mistaken for milli) is refused.
+  Unlike SPICE, prefixes are case-sensitive: ``1M`` is mega, ``1m`` milli.
 * A unit after the number or its prefix, with or without a space:
   ``Ω``/``ohm``/``ohms``, ``V``, ``A``, ``F``, ``H``, ``Hz``; and the ratios ``%``,
   ``ppm`` and ``dB`` (voltage ratio, ``20·log10``; a value in dB must stand
@@ -22,6 +25,12 @@ What a value may contain
   ``9 nV/√Hz``, ``2 fA/rtHz``.
   ``%`` and ``ppm`` scale the number (``1%`` is 1/100); the other units are
   labels, checked against the field's unit when the caller gives one.
+* Range: a number's exponent is at most 99 and every number, written or
+  computed, lies between 1e-150 and 1e150 in magnitude (or is zero), a value in
+  dB between -3000 and 3000 (the same range as a ratio); anything else is a
+  :class:`~opsym.ValueRangeError`, so a float made from a value is always
+  finite and never rounds to zero.
+* Any word that is not a prefix or unit above is an error, never dropped.
 * Names given by the caller (``R1``, ``U1.Vos``, ``U1.Ib+``), the operators
   ``+ - * /`` with ``− × · ÷`` as Unicode spellings, ``‖`` or ``||`` for
   parallel (``a‖b = a·b/(a+b)``), unary signs and parentheses.
@@ -61,7 +70,7 @@ from fractions import Fraction
 
 import sympy as sp
 
-from ..errors import ValueSyntaxError
+from ..errors import ValueRangeError, ValueSyntaxError
 
 __all__ = [
     "MAX_DEPTH",
@@ -76,6 +85,12 @@ MAX_LENGTH = 500
 #: Deepest nesting of parentheses accepted.
 MAX_DEPTH = 40
 _MAX_EXPONENT = 99
+#: Magnitudes outside 10**-_MAX_MAGNITUDE .. 10**_MAX_MAGNITUDE are refused (floats stay finite).
+_MAX_MAGNITUDE = 150
+#: A value in dB beyond ±_MAX_DB is refused: its ratio keeps to the same range.
+_MAX_DB = 20 * _MAX_MAGNITUDE
+_HUGE = Fraction(10) ** _MAX_MAGNITUDE
+_TINY = 1 / _HUGE
 
 #: SI prefixes and their powers of ten (both micro signs are accepted).
 PREFIXES: dict[str, int] = {
@@ -118,6 +133,13 @@ _PER_ROOT_HZ = ("/√Hz", "/rtHz")  # noise densities: V/√Hz and A/√Hz
 _SCALE = {"%": Fraction(1, 100), "ppm": Fraction(1, 10**6)}
 _UNPREFIXED = {"%", "ppm", "dB"}
 
+#: SPICE words opsym refuses, with what to write instead.
+_SPICE_WORDS = {
+    "mil": "m for milli, e.g. 1m ('mil' is SPICE's thousandth of an inch, not read here)",
+    "mils": "m for milli, e.g. 1m ('mils' are thousandths of an inch, not read here)",
+    "mega": "M or meg for mega, e.g. 1.5M or 1.5meg",
+}
+
 _DIGITS = frozenset("0123456789")
 _LETTERS = frozenset("abcdefghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ")
 _NAME_START = _LETTERS | {"_"}
@@ -138,6 +160,7 @@ _OPERATORS = {
     "(": "(",
     ")": ")",
 }
+_RANGE = f"a magnitude between 1e-{_MAX_MAGNITUDE} and 1e{_MAX_MAGNITUDE}, or 0"
 _EXPECT_NUMBER = "a number such as 10k, 4.7n or 1e-9"
 _EXPECT_OPERAND = "a number (10k, 4.7n), a name or '('"
 _EXPECT_OPERATOR = "an operator (+ - * / ‖) or the end"
@@ -153,6 +176,10 @@ class _Token:
     pos: int  # 0-based column of the first character
     value: Fraction | None = None
     unit: str | None = None  # the spelling written, e.g. "kΩ" gives "Ω"
+
+
+def _in_range(number: sp.Rational) -> bool:
+    return _TINY <= abs(Fraction(int(number.p), int(number.q))) <= _HUGE
 
 
 class _Reader:
@@ -171,13 +198,19 @@ class _Reader:
 
     # -- errors ----------------------------------------------------------------------
 
-    def fail(self, problem: str, pos: int | None, expected: str | None) -> ValueSyntaxError:
+    def fail(
+        self,
+        problem: str,
+        pos: int | None,
+        expected: str | None,
+        kind: type[ValueSyntaxError] = ValueSyntaxError,
+    ) -> ValueSyntaxError:
         at = "" if pos is None else f" at column {pos + 1}"
         text = self.text if len(self.text) <= 60 else self.text[:57] + "..."
         msg = f"{self.where}: cannot read {text!r}: {problem}{at}"
         if expected:
             msg += f"; expected {expected}"
-        err = ValueSyntaxError(msg)
+        err = kind(msg)
         err.where, err.text, err.position = self.where, self.text, pos  # type: ignore[attr-defined]
         return err
 
@@ -241,7 +274,8 @@ class _Reader:
             if j < n and s[j] in _DIGITS:
                 k = self.digits(j)
                 if k - j > 3 or abs(int(s[i + 1 : k])) > _MAX_EXPONENT:
-                    raise self.fail(f"exponent {s[i + 1 : k]} is too large", i, "|exponent| <= 99")
+                    problem = f"exponent {s[i + 1 : k]} is too large"
+                    raise self.fail(problem, i, "|exponent| <= 99", ValueRangeError)
                 exponent, i = int(s[i + 1 : k]), k
             else:
                 raise self.fail("an exponent needs digits", i, "e.g. 1e-9 or 2.5E3")
@@ -285,6 +319,11 @@ class _Reader:
         value *= Fraction(10) ** exponent
         if unit is not None and unit.split("/")[0] in _SCALE:
             value *= _SCALE[unit.split("/")[0]]
+        if value and not _TINY <= value <= _HUGE:
+            raise self.fail("the number is out of range", start, _RANGE, ValueRangeError)
+        if unit == "dB" and value > _MAX_DB:
+            expected = f"a value between -{_MAX_DB} and {_MAX_DB} dB"
+            raise self.fail("the value in dB is out of range", start, expected, ValueRangeError)
         self.tokens.append(_Token("num", s[start:i].strip(), start, value, unit))
         return i
 
@@ -301,9 +340,15 @@ class _Reader:
                 return word, None
             if word[0] in PREFIXES and word[1:] in UNITS and word[1:] not in _UNPREFIXED:
                 return word[0], word[1:]
+            if word[:3].lower() == "meg":  # SPICE's mega: 1meg, 1Meg, 10 megohm
+                rest = word[3:]
+                if not rest or (rest in UNITS and rest not in _UNPREFIXED):
+                    return "M", rest or None
         hint = _SUFFIXES
-        if word.lower() == "meg" or word.lower().startswith("meg"):
-            hint = "M for mega (1.5M) — 'meg' is not a prefix here; m is milli"
+        if word.lower() in _SPICE_WORDS:
+            hint = _SPICE_WORDS[word.lower()]
+        elif word[:3].lower() == "meg":
+            hint = "meg (or M) with a unit such as Ω or ohm, e.g. 10 megohm or 10 MΩ"
         elif has_prefix:
             hint = "a unit (Ω, V, A, F, Hz) — the number already has its prefix"
         raise self.fail(f"unknown prefix or unit {word!r}", pos, hint)
@@ -358,7 +403,9 @@ class _Reader:
                 )
             raise self.fail(f"unexpected {tok.text!r}", tok.pos, _EXPECT_OPERATOR)
         if result.has(sp.nan, sp.zoo, sp.oo, -sp.oo):
-            raise self.fail("the value is not finite", None, "a finite value")
+            raise self.fail("the value is not finite", None, "a finite value", ValueRangeError)
+        if result.is_Rational and result and not _in_range(result):
+            raise self.fail("the value is out of range", None, _RANGE, ValueRangeError)
         return result
 
     def decibels(self, tok: _Token) -> sp.Expr:
@@ -440,13 +487,15 @@ class _Reader:
             return
         got = UNITS[tok.unit]
         if got != self.unit:
-            raise self.fail(
+            err = self.fail(
                 f"the unit {tok.unit!r} does not fit this field",
                 tok.pos,
                 f"a value in {self.unit}"
                 if "ratio" not in self.unit
                 else "a ratio (%, ppm or dB)" + self.unit[5:],
             )
+            err.unit = tok.unit  # type: ignore[attr-defined]
+            raise err
 
     def lookup(self, tok: _Token) -> sp.Expr:
         if self.names is None:

@@ -63,14 +63,16 @@ _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
 _NODE = re.compile(r"^[A-Za-z0-9_][A-Za-z0-9_+\-]*$")
 
 
-def to_exact(value: Any, where: str, unit: str | None = None) -> sp.Expr:
+def to_exact(value: Any, where: str, *, unit: str | None = None) -> sp.Expr:
     """Turn a user number or expression into an exact SymPy value.
 
     Floats become the exact rational of their shortest decimal form
     (``0.1`` → ``1/10``), so the algebra stays exact; text goes through the
-    whitelist value parser (``"10k"``). ``where`` names the field for messages;
-    ``unit`` (``"Ω"``, ``"F"``…) is the unit text must carry if it carries one.
-    Every number must lie within the limits of :mod:`opsym.model.limits`.
+    whitelist value parser :func:`opsym.io.values.parse_value` (``"10k"``),
+    the one reader of values in opsym, which checks a unit written in the
+    text against ``unit`` when given (``"Ω"``, ``"F"``…). ``where`` names the
+    field for messages. Every number must lie within the limits of
+    :mod:`opsym.model.limits`.
 
     Examples
     --------
@@ -127,7 +129,7 @@ UNITS = {
 def _positive_value(value: Any, name: str, kind: str) -> sp.Expr:
     if value is None:
         return component_symbol(name)
-    v = to_exact(value, f"{kind} {name}", UNITS.get(kind))
+    v = to_exact(value, f"{kind} {name}", unit=UNITS.get(kind))
     if v.is_number:
         if v.is_zero:
             hint = " (for a wire, give both ends the same node name)" if kind == "resistor" else ""
@@ -533,7 +535,7 @@ class Circuit:
     def _source_value(self, name: str, value: Any, kind: str) -> sp.Expr:
         if value is None:
             return source_symbol(name)
-        return to_exact(value, f"{kind} {name}", UNITS[kind])
+        return to_exact(value, f"{kind} {name}", unit=UNITS[kind])
 
     def _add(self, element: Element) -> None:
         if len(self._elements) >= MAX_ELEMENTS:

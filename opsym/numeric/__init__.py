@@ -1,6 +1,6 @@
 """Numbers in the closed forms: error budgets, temperature, tolerances, preferred values.
 
-One topic per module: :mod:`~opsym.numeric.units` (SI notation via quantiphy),
+One topic per module: :mod:`~opsym.numeric.units` (SI notation in and out),
 :mod:`~opsym.numeric.eseries` (IEC 60063 tables), :mod:`~opsym.numeric.params`
 (op-amp and resistor parameter sets), :mod:`~opsym.numeric.adc` (LSB and ppm),
 :mod:`~opsym.numeric.budget`, :mod:`~opsym.numeric.temperature` and

@@ -5,12 +5,17 @@ and the op-amp parameter sets into a :class:`_Plan` of numeric coefficients; the
 budget module then evaluates the plan at any temperature cheaply
 (:func:`opsym.numeric.budget._evaluate`). Split from ``budget.py`` to keep each
 module to one job.
+
+Numbers go in exactly, by replacement (:mod:`opsym.numeric._numbers`), into the
+coefficients as solved: nothing is factored, simplified or re-derived first
+(an infinite open-loop gain is evaluated at 10^30, not by re-solving the
+circuit), so preparing a budget costs about as much as the solve.
 """
 
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -18,9 +23,11 @@ import numpy as np
 import sympy as sp
 
 from ..errors import BudgetError, OpsymError
+from ..model.symbols import opamp_symbol
+from ._mismatch import MAX_CORNERS, REJECTED, Rejection, Spread
+from ._numbers import LARGE_GAIN, Exact, exact_number, free_symbols_of, to_float
 from .adc import ADC
-from .params import REFERENCE_TEMPERATURE, OpAmpParams, ResistorParams
-from .tolerance import MAX_CORNERS, _corner_signs, _vectorised, first_order_bound
+from .params import OpAmpParams, ResistorParams
 from .units import format_si, parse_quantity
 
 #: Words and units of each error source in the tables.
@@ -59,6 +66,17 @@ class _Line:
 
 
 @dataclass(frozen=True)
+class _SpreadRow:
+    """A resistor-tolerance row: a source's coefficient moving, times its value."""
+
+    source: str  # "gain: tolerance" for the signal, "tolerance: <name>" for the others
+    label: str
+    value: float
+    unit: str
+    spread: Spread
+
+
+@dataclass(frozen=True)
 class _Plan:
     title: str
     lines: tuple[_Line, ...]
@@ -68,12 +86,16 @@ class _Plan:
     signal_value: float | None
     gain: float | None  # signal gain with finite A, at nominal values
     open_loop_error: float | None  # G(A) - G(inf)
-    tolerance: Any  # (call, nominal, base_t, tcr, parts) or None
+    spreads: tuple[_SpreadRow, ...]
     input_gain: float | None
     full_scale: float | None
     adc: ADC | None
     notes: tuple[str, ...]
     signal_unit: str = "V"  # "A" when the signal is a current source
+    rejection: Rejection | None = None  # the network's CMRR, where it has one
+
+
+Progress = Callable[[int, int, str], Any]
 
 
 def _by_name(symbols: Any) -> dict[str, sp.Symbol]:
@@ -92,7 +114,41 @@ def _prepare(
     full_scale: Any,
     adc: ADC | None,
     title: str | None,
+    progress: Progress | None = None,
 ) -> _Plan:
+    opamps = _checked_options(grade, opamps, adc)
+    if getattr(result, "domain", "dc") == "s":
+        result = result.at_dc()  # a budget of DC errors: the s = 0 limit
+    terms = dict(result.terms)  # as solved: never factored before numbers go in
+    names = _names(terms)
+    circuit = getattr(result, "circuit", None)
+    given = _given(values, names, circuit)
+    exact, ideal = _exact_values(names, given, opamps, grade)
+    lines, derived = _lines(result, terms, exact, given, opamps, progress)
+    sig = _chosen_signal(signal, result.signals)
+    sig_value = given.get(sig) if sig else None
+    gain, open_loop = _signal_gain(terms, sig, sig_value, exact, ideal)
+    signal_unit = _signal_unit(circuit, sig)
+    spread_notes: list[str] = []
+    signal_names = [s.name for s in result.signals]
+    spreads, rejection = _tolerance_rows(
+        terms, signal_names, sig, gain, given, exact, _grades(resistors), circuit, spread_notes
+    )
+    ref: float | None = gain if gain else None
+    if input_gain is not None:
+        ref = parse_quantity(input_gain, where="input_gain")
+    fs = None if full_scale is None else parse_quantity(full_scale, "V", where="full_scale")
+    if fs is not None and not fs > 0:
+        raise BudgetError(f"full_scale={fs} must be a positive span in volts")
+    notes = _plan_notes(grade, derived, spread_notes, adc, ref, signal_unit, sig)
+    return _Plan(
+        title or f"Error budget: {getattr(circuit, 'title', '') or 'circuit'}",
+        tuple(lines), opamps, grade, sig, sig_value, gain, open_loop, spreads,
+        ref, fs, adc, notes, signal_unit, rejection,
+    )  # fmt: skip
+
+
+def _checked_options(grade: str, opamps: Any, adc: Any) -> dict[str, OpAmpParams]:
     if grade not in ("max", "typical"):
         raise BudgetError(f"grade {grade!r} is not known; use 'max' (limits) or 'typical'")
     opamps = dict(opamps or {})
@@ -104,168 +160,291 @@ def _prepare(
             )
     if adc is not None and not isinstance(adc, ADC):
         raise BudgetError("adc must be an ADC, e.g. ADC.unipolar(16, 10.0)")
-    if getattr(result, "domain", "dc") == "s":
-        result = result.at_dc()  # a budget of DC errors: the s = 0 limit
-    terms = dict(result.terms)
-    if any(s.name.endswith(".Ib+") for s in terms):
-        result = result.with_average_bias()
-        terms = dict(result.terms)
-    signals = tuple(result.signals)
-    free: set[sp.Symbol] = set(terms)
-    for c in terms.values():
-        free |= c.free_symbols
-    names = _by_name(free)
+    return opamps
 
-    # Numbers given by the user, by name.
+
+def _names(terms: Mapping[sp.Symbol, sp.Expr]) -> dict[str, sp.Symbol]:
+    """Every symbol of the terms by name, and the averaged bias names ``Ib``, ``Ios``."""
+    free: set[sp.Symbol] = set(terms) | free_symbols_of(terms.values())
+    for s in list(terms):
+        if s.name.endswith(".Ib+"):
+            owner = s.name[: -len(".Ib+")]
+            free |= {opamp_symbol(owner, "Ib"), opamp_symbol(owner, "Ios")}
+    return _by_name(free)
+
+
+def _given(values: Any, names: Mapping[str, sp.Symbol], circuit: Any) -> dict[str, float]:
+    """The user's numbers by name, each name checked against the result and circuit."""
     given: dict[str, float] = {}
-    circuit = getattr(result, "circuit", None)
     for key, raw in (values or {}).items():
         name = key.name if isinstance(key, sp.Symbol) else str(key)
-        if name not in names:
-            known = circuit is not None and _circuit_knows(circuit, name)
-            if not known:
-                raise BudgetError(
-                    f"values: {name!r} is not a symbol of this result; its symbols are "
-                    f"{', '.join(sorted(names))}"
-                )
+        if name not in names and not (circuit is not None and _circuit_knows(circuit, name)):
+            raise BudgetError(
+                f"values: {name!r} is not a symbol of this result; its symbols are "
+                f"{', '.join(sorted(names))}"
+            )
         given[name] = parse_quantity(raw, where=f"values[{name!r}]")
+    return given
 
-    # Op-amp parameters that scale coefficients: A (or A0, the DC gain of a pole), CMRR, PSRR.
-    subs: dict[sp.Symbol, Any] = {}
+
+def _exact_values(
+    names: Mapping[str, sp.Symbol], given: Mapping[str, float], opamps: Any, grade: str
+) -> tuple[Exact, Exact]:
+    """Exact numbers for every symbol: at the finite gains, and with every gain at ∞."""
+    subs: dict[sp.Symbol, sp.Expr] = {}
     infinite_gain: list[sp.Symbol] = []
     for name, sym in names.items():
         owner, dot, what = name.partition(".")
         if name in given:
-            subs[sym] = sp.Float(given[name], 17)
+            subs[sym] = exact_number(given[name])
         elif dot and owner in opamps and what in ("A", "A0", "CMRR", "PSRR"):
             p = opamps[owner]
             v = {"A": p.gain, "A0": p.gain, "CMRR": p.cmrr, "PSRR": p.psrr}[what](grade)
-            if math.isinf(v):
-                if what in ("A", "A0"):
-                    infinite_gain.append(sym)
-                else:
-                    subs[sym] = sp.oo
-            else:
-                subs[sym] = sp.Float(v, 17)
+            if math.isinf(v) and what in ("A", "A0"):
+                infinite_gain.append(sym)
+            subs[sym] = exact_number(v)  # an infinite CMRR, PSRR: 1/oo is 0
+    gains = [s for n, s in names.items() if n.endswith((".A", ".A0"))]
     if infinite_gain:
-        finite = [
-            s
-            for s in names.values()
-            if s.name.endswith((".A", ".A0")) and s not in infinite_gain
-        ]
+        finite = [s for s in gains if s not in infinite_gain]
         if finite:
             raise BudgetError(
                 f"{', '.join(s.name for s in infinite_gain)}: the parameter set gives no "
                 "finite open-loop gain while other op-amps have one; give every op-amp a "
                 "finite a_min, or analyse with gain='ideal'"
             )
-        result = result.ideal()
-        terms = dict(result.terms)
+    ideal = {**subs, **{s: LARGE_GAIN for s in gains}}
+    subs.update((s, LARGE_GAIN) for s in infinite_gain)
+    return Exact(subs), Exact(ideal)
 
-    def number(expr: sp.Expr, what: str) -> float:
-        v = expr.subs(subs) if subs else expr
-        # 1/oo is 0; a lone "oo" coefficient would be a modelling error
-        leftover = v.free_symbols
-        if leftover:
-            missing = ", ".join(sorted(s.name for s in leftover))
-            raise BudgetError(
-                f"{what} needs values for {missing}: give them in values= (components, "
-                "signals, U1.Vcm, U1.dVs) or give the op-amp a parameter set in opamps="
-            )
-        x = complex(v)
-        if x.imag != 0 or not math.isfinite(x.real):
-            raise BudgetError(f"{what} evaluates to {v}; check the values")
-        return x.real
 
-    # Fill numeric values of components into subs (after the op-amp ones).
-    for name, x in given.items():
-        if name in names:
-            subs[names[name]] = sp.Float(x, 17)
-
-    lines = []
+def _lines(result, terms, exact: Exact, given, opamps, progress) -> tuple[list[_Line], list[str]]:
+    """One line per error source; ``Ib±`` are budgeted as ``Ib``, ``Ios``."""
+    lines: list[_Line] = []
     derived: list[str] = []
-    for sym in result.error_sources:
+    sources = result.error_sources
+    for i, sym in enumerate(sources):
+        if progress is not None:
+            progress(i, len(sources), f"budget: {sym.name}")
         owner, _, what = sym.name.partition(".")
-        coeff = number(terms[sym], f"the coefficient of {sym.name}")
-        fixed = given.get(sym.name)
-        if fixed is None and coeff != 0 and what == "Vcm":
-            fixed = _common_mode(result, owner, number)
-            if fixed is not None:
-                derived.append(
-                    f"{sym.name} = {format_si(fixed, 'V')}: the common-mode voltage at "
-                    f"{owner}'s inputs, from the signal values"
-                )
-        if fixed is None and coeff != 0:
-            if what in ("Vcm", "dVs"):
-                hint = (
-                    "the common-mode voltage at its inputs" if what == "Vcm"
-                    else "the change of its total supply span"
-                )  # fmt: skip
-                raise BudgetError(
-                    f"give values[{sym.name!r}], {hint} in volts, to budget {sym.name}"
-                    + (" (or the signal values, from which opsym derives it)"
-                       if what == "Vcm" else "")
-                )  # fmt: skip
-            if owner not in opamps or what not in WORDS:
-                raise BudgetError(
-                    f"{sym.name} needs a value: give opamps={{{owner!r}: "
-                    "opamp_parameters('generic precision bipolar')}} or "
-                    f"values[{sym.name!r}]"
-                )
-        lines.append(_Line(sym, owner, what, coeff, fixed))
+        if what == "Ib-" and opamp_symbol(owner, "Ib+") in terms:
+            continue  # taken with Ib+
+        for name, value in _coefficients(sym, terms, exact):
+            coeff = to_float(value, f"the coefficient of {name}")
+            w = name.partition(".")[2]
+            fixed = _fixed_value(result, name, w, coeff, given, opamps, exact, derived)
+            lines.append(_Line(opamp_symbol(owner, w) if w else sym, owner, w, coeff, fixed))
+    if progress is not None:
+        progress(len(sources), len(sources), "budget: coefficients")
+    return lines, derived
 
-    # The signal: reference gain and gain rows.
-    sig = None
-    if signal is not None:
-        sig = signal.name if isinstance(signal, sp.Symbol) else str(signal)
-        if sig not in {s.name for s in signals}:
-            raise BudgetError(
-                f"signal {sig!r} is not a signal of this result; its signals are "
-                f"{', '.join(s.name for s in signals) or 'none'}"
+
+def _coefficients(sym: sp.Symbol, terms, exact: Exact) -> list[tuple[str, sp.Expr]]:
+    """``[(name, exact coefficient)]``: ``Ib+`` gives ``Ib = c₊ + c₋``, ``Ios = (c₊ − c₋)/2``."""
+    owner, _, what = sym.name.partition(".")
+    if what != "Ib+":
+        return [(sym.name, exact.value(terms[sym], f"the coefficient of {sym.name}"))]
+    cp = exact.value(terms[sym], f"the coefficient of {sym.name}")
+    minus = opamp_symbol(owner, "Ib-")
+    cm = exact.value(terms[minus], f"the coefficient of {minus.name}")
+    return [(f"{owner}.Ib", cp + cm), (f"{owner}.Ios", (cp - cm) / 2)]
+
+
+def _fixed_value(result, name, what, coeff, given, opamps, exact, derived) -> float | None:
+    """The value a line uses when not from the parameter set; errors if one is missing."""
+    owner = name.partition(".")[0]
+    fixed = given.get(name)
+    if fixed is None and coeff != 0 and what == "Vcm":
+        fixed = _common_mode(result, owner, exact.number)
+        if fixed is not None:
+            derived.append(
+                f"{name} = {format_si(fixed, 'V')}: the common-mode voltage at "
+                f"{owner}'s inputs, from the signal values"
             )
-    elif len(signals) == 1:
-        sig = signals[0].name
-    gain = open_loop = None
-    tolerance = None
-    sig_value = given.get(sig) if sig else None
-    notes: list[str] = []
-    if sig:
-        sig_sym = next(s for s in signals if s.name == sig)
-        g_expr = terms[sig_sym]
-        gain = number(g_expr, f"the gain from {sig}")
-        has_a = any(s.name.endswith(".A") for s in g_expr.free_symbols)
-        if sig_value is not None and has_a:
-            g_ideal = number(result.ideal().terms[sig_sym], f"the ideal gain from {sig}")
-            open_loop = gain - g_ideal
-        if sig_value is not None and resistors is not None:
-            tolerance = _tolerance_plan(g_expr, subs, given, names, resistors, notes)
-    ref: float | None
-    if input_gain is not None:
-        ref = parse_quantity(input_gain, where="input_gain")
-    else:
-        ref = gain if gain else None
-    fs = None if full_scale is None else parse_quantity(full_scale, "V", where="full_scale")
-    if fs is not None and not fs > 0:
-        raise BudgetError(f"full_scale={fs} must be a positive span in volts")
+    if fixed is None and coeff != 0:
+        if what in ("Vcm", "dVs"):
+            hint = (
+                "the common-mode voltage at its inputs" if what == "Vcm"
+                else "the change of its total supply span"
+            )  # fmt: skip
+            raise BudgetError(
+                f"give values[{name!r}], {hint} in volts, to budget {name}"
+                + (" (or the signal values, from which opsym derives it)"
+                   if what == "Vcm" else "")
+            )  # fmt: skip
+        if owner not in opamps or what not in WORDS:
+            raise BudgetError(
+                f"{name} needs a value: give opamps={{{owner!r}: "
+                "opamp_parameters('generic precision bipolar')}} or "
+                f"values[{name!r}]"
+            )
+    return fixed
+
+
+def _chosen_signal(signal: Any, signals: Any) -> str | None:
+    signals = tuple(signals)
+    if signal is None:
+        return signals[0].name if len(signals) == 1 else None
+    sig = signal.name if isinstance(signal, sp.Symbol) else str(signal)
+    if sig not in {s.name for s in signals}:
+        raise BudgetError(
+            f"signal {sig!r} is not a signal of this result; its signals are "
+            f"{', '.join(s.name for s in signals) or 'none'}"
+        )
+    return sig
+
+
+def _signal_gain(terms, sig, sig_value, exact: Exact, ideal: Exact):
+    """The signal gain (finite A) and, with a signal value, ``G(A) − G(∞)``."""
+    if not sig:
+        return None, None
+    g_expr = next(c for s, c in terms.items() if s.name == sig)
+    g = exact.value(g_expr, f"the gain from {sig}")
+    has_a = any(s.name.endswith(".A") for s in g_expr.free_symbols)
+    open_loop = None
+    if sig_value is not None and has_a:
+        g_ideal = ideal.value(g_expr, f"the ideal gain from {sig}")
+        open_loop = to_float(g - g_ideal, f"the open-loop gain error from {sig}")
+    return to_float(g, f"the gain from {sig}"), open_loop
+
+
+def _grades(resistors: Any) -> Any:
+    """``None``, one ResistorParams for every part, or a checked mapping name → grade."""
+    if resistors is None or isinstance(resistors, ResistorParams):
+        return resistors
+    if not isinstance(resistors, Mapping):
+        raise BudgetError("resistors must be a ResistorParams or a mapping name → ResistorParams")
+    grades = {}
+    for k, v in resistors.items():
+        if not isinstance(v, ResistorParams):
+            raise BudgetError(f"resistors[{k!r}] must be a ResistorParams")
+        grades[str(k)] = v
+    return grades
+
+
+def _grade_of(grades: Any, name: str) -> ResistorParams | None:
+    return grades if isinstance(grades, ResistorParams) else grades.get(name)
+
+
+def _parts(exprs: Any, grades: Any, given: Mapping[str, float]) -> list[sp.Symbol]:
+    """The toleranced components of ``exprs``, each with a value (else an error)."""
+    free: set[sp.Symbol] = set()
+    for e in exprs:
+        free |= e.free_symbols
+    parts = sorted(
+        (s for s in free if s.is_positive and "." not in s.name and _grade_of(grades, s.name)),
+        key=lambda s: s.name,
+    )
+    missing = [s.name for s in parts if s.name not in given]
+    if missing:
+        raise BudgetError(
+            f"resistor tolerance needs values for {', '.join(missing)}; give them in values="
+        )
+    return parts
+
+
+def _spread(exprs, grades, given) -> tuple[list[sp.Symbol], Any]:
+    """The toleranced parts of ``exprs`` and their tolerances and TCRs."""
+    parts = _parts(exprs, grades, given)
+    chosen = [_grade_of(grades, s.name) for s in parts]
+    base_t = np.array([g.tolerance for g in chosen if g is not None])
+    tcr = np.array([g.tcr for g in chosen if g is not None])
+    return parts, (base_t, tcr)
+
+
+def _tolerance_rows(terms, signals, sig, gain, given, exact: Exact, grades, circuit, notes):
+    """The signal's gain-tolerance row, every other valued source's row, and the CMRR.
+
+    Every signal source other than the one read (a common-mode input, a
+    reference, a second input) with a non-zero value gets the row of its
+    coefficient moving with the resistors; one the network nominally rejects is
+    the common mode, and with it the network has a CMRR.
+    """
+    if grades is None:
+        return (), None
+    coefficients = {s.name: c for s, c in terms.items() if s.name in signals}
+    rows: list[_SpreadRow] = []
+    rejection = None
+    for name in sorted(coefficients, key=lambda n: (n != sig, signals.index(n))):
+        coeff, value = coefficients[name], given.get(name)
+        common = name != sig and _rejected(coeff, gain, exact)
+        if name != sig and gain and rejection is None:
+            rejection = _rejection(coefficients[sig], coeff, common, grades, given, exact)
+        if value is None or (name != sig and value == 0):
+            continue
+        parts, (base_t, tcr) = _spread([coeff], grades, given)
+        if not parts:
+            continue
+        spread = Spread.of(coeff, parts, exact.values, base_t, tcr)
+        rows.append(_spread_row(name, sig, common, value, _signal_unit(circuit, name), spread))
+        notes.append(_spread_note(rows[-1], len(parts)))
+    return tuple(rows), rejection
+
+
+def _rejected(coeff: sp.Expr, gain: float | None, exact: Exact) -> bool:
+    """Whether the network nominally rejects this source (a common-mode input)."""
+    if not gain:
+        return False
+    try:
+        return abs(exact.number(coeff, "a source's coefficient")) <= REJECTED * abs(gain)
+    except BudgetError:  # a coefficient without values: not budgeted, not judged
+        return False
+
+
+def _rejection(g_sig, coeff, common, grades, given, exact: Exact) -> Rejection | None:
+    """The network CMRR: a rejected input against the signal, or a ± input pair.
+
+    With a common-mode source, Ad is the signal's gain and Acm the source's
+    coefficient; with two inputs of opposite gains g₁, g₂ (a difference
+    amplifier read from V1 and V2), Ad = (g₂ − g₁)/2 and Acm = g₁ + g₂.
+    """
+    try:
+        if common:
+            ad, acm = g_sig, coeff
+        elif abs(exact.number(g_sig + coeff, "Acm")) <= REJECTED * abs(exact.number(g_sig, "Ad")):
+            ad, acm = (g_sig - coeff) / 2, g_sig + coeff
+        else:
+            return None
+        if not acm.free_symbols:
+            return None  # a source that never reaches the output: no CMRR to state
+        parts, (base_t, tcr) = _spread([ad, acm], grades, given)
+    except BudgetError:  # values missing: no CMRR to state
+        return None
+    return Rejection.of(ad, acm, parts, exact.values, base_t, tcr) if parts else None
+
+
+def _spread_row(name, sig, common, value, unit, spread) -> _SpreadRow:
+    if name == sig:
+        return _SpreadRow("gain: tolerance", "resistor tolerance (gain)", value, unit, spread)
+    label = "common-mode error from resistor mismatch" if common else (
+        f"{name} × resistor tolerance")  # fmt: skip
+    return _SpreadRow(f"tolerance: {name}", label, value, unit, spread)
+
+
+def _spread_note(row: _SpreadRow, n: int) -> str:
+    what = "the gain" if row.source == "gain: tolerance" else (
+        f"the coefficient of {row.source.partition(': ')[2]}")  # fmt: skip
+    if row.spread.method == "corners":
+        return (f"resistor tolerance: exact corners of {what} over {n} parts "
+                "(tolerance + TCR·|T − 25 °C|, each part either way)")  # fmt: skip
+    return (f"resistor tolerance: first-order bound of {what} over {n} parts (over "
+            f"{MAX_CORNERS} for corners)")  # fmt: skip
+
+
+def _plan_notes(grade, derived, notes, adc, ref, signal_unit, sig) -> tuple[str, ...]:
     grade_note = (
         "values: datasheet limits (max Vos, |Ib|, Ios; min A, CMRR, PSRR)"
         if grade == "max" else "values: typical"
     )  # fmt: skip
-    notes = [grade_note, WORST_CASE_RULE, RSS_RULE, *derived, *notes]
+    out = [grade_note, WORST_CASE_RULE, RSS_RULE, *derived, *notes]
     if adc is not None:
-        notes.append(f"ADC: {adc.describe()}")
-    signal_unit = _signal_unit(circuit, sig)
+        out.append(f"ADC: {adc.describe()}")
     if ref:
-        notes.append(
+        out.append(
             f"input-referred: output / |G|, G = {ref:.6g} V/{signal_unit} from "
             f"{sig or 'input_gain'}"
         )
-    notes.append(SHORT_CAUTION)
-    return _Plan(
-        title or f"Error budget: {getattr(circuit, 'title', '') or 'circuit'}",
-        tuple(lines), opamps, grade, sig, sig_value, gain, open_loop, tolerance,
-        ref, fs, adc, tuple(notes), signal_unit,
-    )  # fmt: skip
+    out.append(SHORT_CAUTION)
+    return tuple(out)
 
 
 def _signal_unit(circuit: Any, signal: str | None) -> str:
@@ -295,57 +474,3 @@ def _common_mode(result: Any, owner: str, number: Any) -> float | None:
         return number(result.common_mode(owner), f"the common-mode voltage of {owner}")
     except OpsymError:
         return None
-
-
-def _tolerance_plan(g_expr, subs, given, names, resistors, notes):
-    """Set up the resistor-tolerance gain row: parts, nominal values, t and TCR."""
-    comps = [s for s in g_expr.free_symbols if s.is_positive and "." not in s.name]
-    if isinstance(resistors, ResistorParams):
-        grades = {s.name: resistors for s in comps}
-    elif isinstance(resistors, Mapping):
-        grades = {}
-        for k, v in resistors.items():
-            if not isinstance(v, ResistorParams):
-                raise BudgetError(f"resistors[{k!r}] must be a ResistorParams")
-            grades[str(k)] = v
-    else:
-        raise BudgetError("resistors must be a ResistorParams or a mapping name → ResistorParams")
-    parts = sorted((s for s in comps if s.name in grades), key=lambda s: s.name)
-    if not parts:
-        return None
-    missing = [s.name for s in parts if s.name not in given]
-    if missing:
-        raise BudgetError(
-            f"resistor tolerance needs values for {', '.join(missing)}; give them in values="
-        )
-    fixed = {s: float(v) for s, v in subs.items() if s not in parts and v.is_finite}
-    base_t = np.array([grades[s.name].tolerance for s in parts])
-    tcr = np.array([grades[s.name].tcr for s in parts])
-    nominal = np.array([given[s.name] for s in parts])
-    if len(parts) <= MAX_CORNERS:
-        call = _vectorised(g_expr, parts, fixed)
-        notes.append(
-            f"resistor tolerance: exact corners of the gain over {len(parts)} parts "
-            "(tolerance + TCR·|T − 25 °C|, each part either way)"
-        )
-        return ("corners", call, nominal, base_t, tcr, parts)
-    notes.append(
-        f"resistor tolerance: first-order bound over {len(parts)} parts (over {MAX_CORNERS} "
-        "for corners)"
-    )
-    sym_vals = {s.name: v for s, v in fixed.items()}
-    sym_vals.update((p.name, v) for p, v in zip(parts, nominal, strict=True))
-    return ("bound", g_expr, sym_vals, base_t, tcr, parts)
-
-
-def _tolerance_deviation(plan: _Plan, temperature: float) -> float:
-    kind, f, nominal, base_t, tcr, parts = plan.tolerance
-    t = base_t + tcr * abs(temperature - REFERENCE_TEMPERATURE)
-    if kind == "corners":
-        signs = _corner_signs(len(parts))
-        g = f((nominal * (1.0 + signs * t)).T)
-        g0 = float(f(nominal[:, None])[0])
-        return float(np.max(np.abs(g - g0)))
-    tol = {p.name: ti for p, ti in zip(parts, t, strict=True)}
-    _, dy, _ = first_order_bound(f, nominal, tol)
-    return dy

@@ -22,6 +22,11 @@ Rules (stated again in every report's notes):
 * **Gain rows** need the signal's value (its full-scale input): finite
   open-loop gain gives (G(A) − G(∞))·Vsig; resistor tolerance gives the worst
   corner deviation of G times |Vsig| (first-order bound beyond 12 parts).
+* **Other sources' tolerance rows**: every other signal source with a non-zero
+  value (a common-mode input, a reference, a second input) gets the worst
+  change of its coefficient with resistor tolerance times |value|; one the
+  network nominally rejects is the "common-mode error from resistor mismatch",
+  and the budget states the network CMRR (:attr:`Budget.cmrr_db`).
 
 Examples
 --------
@@ -54,9 +59,9 @@ from ._plan import (
     SIGNED,
     WORDS,
     WORST_CASE_RULE,
+    Progress,
     _Plan,
     _prepare,
-    _tolerance_deviation,
 )
 from ._views import TableViews
 from .adc import ADC
@@ -73,8 +78,9 @@ class BudgetRow:
     Attributes
     ----------
     source : str
-        The source's name (``"U1.Vos"``), or ``"gain: open-loop"`` /
-        ``"gain: tolerance"`` for the gain rows.
+        The source's name (``"U1.Vos"``), ``"gain: open-loop"`` /
+        ``"gain: tolerance"`` for the gain rows, or ``"tolerance: Vcm"`` for
+        another source's coefficient moving with resistor tolerance.
     label : str
         Words for reports.
     value : float
@@ -146,6 +152,9 @@ class Budget(TableViews):
     temperature: float
     notes: tuple[str, ...]
     input_unit: str = "V"  # of the input-referred column: "A" for a current input
+    #: min |Ad|/|Acm| of the resistor network over the tolerance corners, dB (None
+    #: without a differential signal and a common mode, or without ``resistors=``).
+    cmrr_db: float | None = None  # the network's CMRR from resistor mismatch, worst case
 
     @property
     def worst_case_input(self) -> float | None:
@@ -187,6 +196,8 @@ class Budget(TableViews):
         for r in self.rows:
             if r.source.startswith("gain:"):
                 coef = f"ΔG = {r.coefficient:+.3g}"
+            elif r.source.startswith("tolerance:"):
+                coef = f"Δ = ±{abs(r.coefficient):.3g} V/" + r.unit
             elif r.unit == "A":
                 coef = format_si(r.coefficient, "Ω")  # V/A: the trade writes it in ohms
             else:
@@ -261,11 +272,10 @@ def _evaluate(plan: _Plan, temperature: float) -> Budget:
                 True,
             )
         )
-    if plan.tolerance is not None and plan.signal_value is not None:
-        dev = _tolerance_deviation(plan, temperature)
-        raw.append(("gain: tolerance", "resistor tolerance (gain)", plan.signal_value,
-                    plan.signal_unit,
-                    dev, abs(dev * plan.signal_value), False))  # fmt: skip
+    for row in plan.spreads:
+        dev = row.spread.deviation(temperature)
+        raw.append((row.source, row.label, row.value, row.unit, dev, abs(dev * row.value),
+                    False))  # fmt: skip
     raw.sort(key=lambda r: -abs(r[5]))
     worst = float(sum(abs(r[5]) for r in raw))
     rss = float(math.sqrt(sum(r[5] ** 2 for r in raw)))
@@ -282,13 +292,28 @@ def _evaluate(plan: _Plan, temperature: float) -> Budget:
             )
         )  # fmt: skip
     notes = plan.notes
+    cmrr = None
+    if plan.rejection is not None:
+        cmrr = plan.rejection.cmrr_db(temperature)
+        notes = (*notes[:-1], _cmrr_note(plan, temperature, cmrr), notes[-1])
     if temperature != REFERENCE_TEMPERATURE:
         notes = (f"at {temperature:g} °C: Vos + drift·|T − 25 °C|; Ib and Ios by each set's "
                  "bias law", *notes)  # fmt: skip
     return Budget(
         plan.title, tuple(rows), worst, rss, plan.input_gain, plan.signal, plan.full_scale,
-        plan.adc, plan.grade, float(temperature), notes, plan.signal_unit,
+        plan.adc, plan.grade, float(temperature), notes, plan.signal_unit, cmrr,
     )  # fmt: skip
+
+
+def _cmrr_note(plan: _Plan, temperature: float, cmrr: float) -> str:
+    rej = plan.rejection
+    assert rej is not None
+    return (
+        f"network CMRR from resistor mismatch: {cmrr:.1f} dB worst case (|Acm| ≤ "
+        f"{rej.worst_acm(temperature):.3g} V/V, Ad = {abs(rej.ad.nominal_value):.4g} V/V, "
+        f"{rej.acm.method}); a difference amplifier of gain K has ≈ (1 + K)/(4t) "
+        "(Sedra & Smith, Microelectronic Circuits, 6th ed., §2.4)"
+    )
 
 
 def error_budget(
@@ -304,6 +329,7 @@ def error_budget(
     adc: ADC | None = None,
     temperature: float = REFERENCE_TEMPERATURE,
     title: str | None = None,
+    progress: Progress | None = None,
 ) -> Budget:
     """The error budget of ``result`` with numbers put in.
 
@@ -338,6 +364,9 @@ def error_budget(
         resistors spread by ``TCR·|T − 25|``.
     title : str, optional
         Table caption.
+    progress : callable, optional
+        ``progress(done, total, what)`` while the coefficients are evaluated
+        (the convention of ``Circuit.analyze``).
 
     Returns
     -------
@@ -349,6 +378,6 @@ def error_budget(
     temperature = check_float(temperature, "error_budget temperature")
     plan = _prepare(
         result, values, opamps, resistors=resistors, grade=grade, signal=signal,
-        input_gain=input_gain, full_scale=full_scale, adc=adc, title=title,
+        input_gain=input_gain, full_scale=full_scale, adc=adc, title=title, progress=progress,
     )  # fmt: skip
     return _evaluate(plan, float(temperature))

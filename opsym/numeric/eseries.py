@@ -285,7 +285,7 @@ def choose_for_null(
     values = check_values(values, "choose_for_null values", getattr(result, "circuit", None))
     element = condition.lhs.name
     subs = _numeric_subs(values, condition.rhs.free_symbols, "choose_for_null")
-    exact_expr = condition.rhs.subs(subs)
+    exact_expr = condition.rhs.xreplace(subs)  # xreplace: linear in the tree, unlike subs
     if exact_expr.free_symbols:
         missing = ", ".join(sorted(s.name for s in exact_expr.free_symbols))
         raise BudgetError(f"choose_for_null: give values for {missing} to evaluate {element}")
@@ -298,11 +298,13 @@ def choose_for_null(
     chosen = preferred_value(exact, series)
     coefficient = residual = None
     if result is not None and source is not None:
-        expr = result.coefficient(source)
+        name = source.name if isinstance(source, sp.Symbol) else str(source)
+        raw = {s.name: c for s, c in getattr(result, "terms", {}).items()}  # as solved
+        expr = raw[name] if name in raw else result.coefficient(source)
         syms = expr.free_symbols
         fixed = _numeric_subs(values, syms, "choose_for_null")
         fixed.update({s: sp.Float(chosen) for s in syms if s.name == element})
-        left = expr.subs(fixed)
+        left = expr.xreplace(fixed)
         if left.free_symbols:
             missing = ", ".join(sorted(s.name for s in left.free_symbols))
             raise BudgetError(

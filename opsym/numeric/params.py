@@ -40,7 +40,7 @@ from typing import Any
 
 from ..errors import BudgetError, UnknownNameError
 from ..model.limits import shown
-from .units import db_to_ratio, parse_fraction, parse_quantity
+from .units import db_to_ratio, parse_db, parse_fraction, parse_quantity
 
 __all__ = [
     "OPAMP_SETS",
@@ -344,12 +344,7 @@ _OPTIONAL = frozenset({
 
 
 def _db(raw: Any, where: str) -> float:
-    if isinstance(raw, str):
-        s = raw.strip()
-        if s.lower().endswith("db"):
-            s = s[:-2]
-        return parse_quantity(s, where=where)
-    return parse_quantity(raw, where=where)
+    return parse_db(raw, where=where)
 
 
 def _bias_law(raw: Any, where: str) -> BiasLaw:
@@ -363,7 +358,8 @@ def _bias_law(raw: Any, where: str) -> BiasLaw:
             r"\s*(constant|doubling)(?:\s+(?:every\s+)?([0-9.]+)\s*(?:°?C)?)?\s*", raw
         )
         if m:
-            return BiasLaw(m.group(1), float(m.group(2)) if m.group(2) else 10.0)
+            step = parse_quantity(m.group(2), where=where) if m.group(2) else 10.0
+            return BiasLaw(m.group(1), step)
     raise BudgetError(
         f"{where}: {raw!r} is not a bias law; write 'constant' or 'doubling 10' "
         "(doubles every 10 °C)"

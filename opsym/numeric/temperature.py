@@ -154,10 +154,10 @@ def budget_over_temperature(
         An explicit grid instead.
     **options
         Passed on to :func:`~opsym.numeric.budget.error_budget` (``resistors``,
-        ``grade``, ``signal``, ``adc``, ``full_scale``...).
+        ``grade``, ``signal``, ``adc``, ``full_scale``, ``progress``...).
     """
     unknown = set(options) - {
-        "resistors", "grade", "signal", "input_gain", "full_scale", "adc", "title"
+        "resistors", "grade", "signal", "input_gain", "full_scale", "adc", "title", "progress"
     }  # fmt: skip
     if unknown:
         raise BudgetError(
@@ -176,6 +176,12 @@ def budget_over_temperature(
     values = check_values(values, "budget_over_temperature values",
                           getattr(result, "circuit", None))
     kw = {"resistors": None, "grade": "max", "signal": None, "input_gain": None,
-          "full_scale": None, "adc": None, "title": None, **options}  # fmt: skip
-    plan = _prepare(result, values, opamps, **kw)
-    return TemperatureSweep(tuple(grid), tuple(_evaluate(plan, t) for t in grid))
+          "full_scale": None, "adc": None, "title": None, "progress": None,
+          **options}  # fmt: skip
+    plan = _prepare(result, values, opamps, **kw)  # numbers in once; each T is cheap
+    budgets = []
+    for i, t in enumerate(grid):
+        if kw["progress"] is not None:
+            kw["progress"](i, len(grid), f"budget at {t:g} °C")
+        budgets.append(_evaluate(plan, t))
+    return TemperatureSweep(tuple(grid), tuple(budgets))

@@ -38,6 +38,7 @@ import sympy as sp
 
 from ..errors import BudgetError
 from ._inputs import check_values
+from ._numbers import Exact, compile_columns, exact_number, relative_sensitivities
 from ._views import TableViews
 from .params import ResistorParams
 from .units import format_si, parse_fraction, parse_quantity
@@ -112,20 +113,8 @@ def _resolve(
 
 
 def _vectorised(expr: sp.Expr, parts: list[sp.Symbol], fixed: Mapping[sp.Symbol, float]):
-    reduced = expr.subs({s: sp.Float(v, 17) for s, v in fixed.items()})
-    leftover = reduced.free_symbols - set(parts)
-    if leftover:
-        names = ", ".join(sorted(s.name for s in leftover))
-        raise BudgetError(f"give values for {names}")
-    # lambdify generates code from the expression tree (never from user text);
-    # dummify because names such as "U1.Vos" are not Python identifiers.
-    f = sp.lambdify(parts, reduced, modules="numpy", dummify=True)
-
-    def call(columns: np.ndarray) -> np.ndarray:
-        out = np.asarray(f(*columns), dtype=float)
-        return np.broadcast_to(out, columns.shape[1:]).copy()
-
-    return call
+    """``expr`` compiled once over the parts' columns (the fixed values as scalars)."""
+    return compile_columns(expr, parts, fixed)
 
 
 def _corner_signs(n: int) -> np.ndarray:
@@ -191,12 +180,23 @@ def first_order_bound(
     (10.0, 0.18)
     """
     parts, nominal, t, fixed = _resolve([expr], values, tolerances, "first_order_bound")
-    at = {**{s: sp.Float(v, 17) for s, v in fixed.items()},
-          **{s: sp.Float(v, 17) for s, v in zip(parts, nominal, strict=True)}}  # fmt: skip
-    y0 = float(expr.subs(at))
-    each = {}
-    for s, x, ti in zip(parts, nominal, t, strict=True):
-        each[s.name] = abs(float(sp.diff(expr, s).subs(at)) * x) * ti
+    return _bound(expr, parts, nominal, t, fixed)
+
+
+def _bound(expr, parts, nominal, t, fixed, call=None) -> tuple[float, float, dict[str, float]]:
+    """:func:`first_order_bound` on resolved parts: complex step on the compiled ``expr``."""
+    at = {s: exact_number(v) for s, v in fixed.items()}
+    at.update((s, exact_number(v)) for s, v in zip(parts, nominal, strict=True))
+    y0 = Exact(at).number(expr, "first_order_bound: the quantity")
+    if not parts:
+        return y0, 0.0, {}
+    call = call or _vectorised(expr, parts, fixed)
+    sens = relative_sensitivities(call, nominal) if call.analytic else None
+    if sens is None or not np.all(np.isfinite(sens)):
+        # not analytic (Abs, Max...) or out of float range: exact derivatives, once each
+        ex = Exact(at)
+        sens = np.array([ex.number(sp.diff(expr, s) * s, f"∂y/∂{s.name}") for s in parts])
+    each = {s.name: float(abs(d) * ti) for s, d, ti in zip(parts, sens, t, strict=True)}
     return y0, float(sum(each.values())), each
 
 
@@ -242,20 +242,29 @@ def monte_carlo(
     >>> mc.count, 0.98 < mc.low < mc.high < 1.03
     (1000, True)
     """
+    _check_draw(samples, distribution)
+    parts, nominal, t, fixed = _resolve([expr], values, tolerances, "monte_carlo")
+    return _draw(_vectorised(expr, parts, fixed), nominal, t, samples, seed, distribution)
+
+
+def _check_draw(samples: Any, distribution: str) -> None:
     if distribution not in ("uniform", "normal"):
         raise BudgetError(
             f"monte_carlo: distribution {distribution!r} is not known; use 'uniform' or 'normal'"
         )
     if isinstance(samples, bool) or not isinstance(samples, int) or not 1 <= samples <= 10**7:
         raise BudgetError(f"monte_carlo: samples={samples!r} must be a whole number 1 … 10^7")
-    parts, nominal, t, fixed = _resolve([expr], values, tolerances, "monte_carlo")
+
+
+def _draw(call, nominal, t, samples: int, seed: int | None, distribution: str) -> MonteCarlo:
+    """Monte Carlo on a compiled quantity: ``samples`` draws of every part at once."""
     rng = np.random.default_rng(seed)
-    n = len(parts)
+    n = len(nominal)
     if distribution == "uniform":
         d = rng.uniform(-1.0, 1.0, size=(samples, n)) * t
     else:
         d = np.clip(rng.normal(0.0, 1.0, size=(samples, n)) * (t / 3.0), -t, t)
-    y = _vectorised(expr, parts, fixed)((nominal * (1.0 + d)).T)
+    y = call((nominal * (1.0 + d)).T)
     y.flags.writeable = False
     pct = dict(zip(_PERCENTILES, (float(v) for v in np.percentile(y, _PERCENTILES)), strict=True))
     return MonteCarlo(
@@ -377,41 +386,45 @@ def tolerance_analysis(
     unit : str
         Unit of the quantity, for tables.
     """
-    label = "expression"
-    if isinstance(quantity, sp.Expr):
-        expr = quantity
-        label = str(expr) if len(str(expr)) < 40 else "expression"
-    elif hasattr(quantity, "coefficient"):
-        if of == "gain":
-            sig = signal if signal is not None else _only_signal(quantity)
-            expr = quantity.coefficient(sig)
-            label = f"the gain from {sig}"
-        else:
-            expr = quantity.coefficient(of)
-            label = f"the coefficient of {of}"
-    else:
-        raise BudgetError(
-            f"tolerance_analysis: {type(quantity).__name__} is not a SymPy expression or Result"
-        )
-    parts, _nominal, t, _ = _resolve([expr], values, tolerances, "tolerance_analysis")
-    y0, bound, shares = first_order_bound(expr, values, tolerances)
+    expr, label = _quantity(quantity, of, signal)
+    if samples:
+        _check_draw(samples, distribution)
+    parts, nominal, t, fixed = _resolve([expr], values, tolerances, "tolerance_analysis")
+    call = _vectorised(expr, parts, fixed)  # compiled once for bound, corners and draws
+    y0, bound, shares = _bound(expr, parts, nominal, t, fixed, call)
     lo = hi = None
     if len(parts) <= min(max_corners, _HARD_LIMIT):
-        _, _, table = corner_values(expr, values, tolerances, max_corners=max_corners)
-        lo, hi = float(np.min(table[0])), float(np.max(table[0]))
+        table = call((nominal * (1.0 + _corner_signs(len(parts)) * t)).T)
+        lo, hi = float(np.min(table)), float(np.max(table))
         if not (math.isfinite(lo) and math.isfinite(hi)):
             raise BudgetError(
                 f"tolerance_analysis: {label} is not finite at some corner; check the values"
             )
-    mc = None
-    if samples:
-        mc = monte_carlo(
-            expr, values, tolerances, samples=samples, seed=seed, distribution=distribution
-        )
+    mc = _draw(call, nominal, t, samples, seed, distribution) if samples else None
     return ToleranceStudy(
         label, y0, tuple(s.name for s in parts), tuple(float(x) for x in t), lo, hi, bound,
         shares, mc, unit,
     )  # fmt: skip
+
+
+def _quantity(quantity: Any, of: Any, signal: Any) -> tuple[sp.Expr, str]:
+    """The expression a study is of, and words for it (a result's coefficient as solved)."""
+    if isinstance(quantity, sp.Expr):
+        return quantity, str(quantity) if len(str(quantity)) < 40 else "expression"
+    if not hasattr(quantity, "coefficient"):
+        raise BudgetError(
+            f"tolerance_analysis: {type(quantity).__name__} is not a SymPy expression or Result"
+        )
+    if of == "gain":
+        source = signal if signal is not None else _only_signal(quantity)
+        label = f"the gain from {source}"
+    else:
+        source, label = of, f"the coefficient of {of}"
+    name = source.name if isinstance(source, sp.Symbol) else str(source)
+    raw = {s.name: c for s, c in quantity.terms.items()}
+    # As solved, not factored: factoring a long cascade's coefficient costs far more
+    # than evaluating it. Names the result keys otherwise (Ib, Ios) go through coefficient.
+    return (raw[name] if name in raw else quantity.coefficient(source)), label
 
 
 def _only_signal(result: Any) -> Any:

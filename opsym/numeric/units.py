@@ -1,12 +1,14 @@
 """Numbers with SI prefixes in and out, ratios in dB, and fractions in % or ppm.
 
-Reading and writing SI notation is delegated to :mod:`quantiphy`; this module
-adds the checks opsym needs (a finite number, the expected unit) and error
-messages that name the field. Text is never evaluated: quantiphy reads a number,
-an optional SI prefix and an optional unit, nothing else.
+Text is read by :func:`opsym.io.values.parse_value`, the one value syntax of
+opsym (design files, ``Circuit`` values and the numeric layer alike); this
+module turns its exact numbers into floats and adds the checks the numeric
+layer needs (the expected unit) with messages that name the field. Writing SI
+notation (:func:`format_si`) is delegated to :mod:`quantiphy`.
 
-Prefixes follow SI: ``M`` is mega and ``m`` milli (``"1M"`` is 1e6, ``"1m"``
-is 1e-3); ``u`` and ``µ`` are both micro; ``k`` and ``K`` are both kilo.
+Prefixes follow SI and are case-sensitive: ``M`` is mega and ``m`` milli
+(``"1M"`` is 1e6, ``"1m"`` is 1e-3); SPICE's ``meg`` is mega too; ``u`` and
+``µ`` are both micro; ``k`` and ``K`` are both kilo.
 
 Examples
 --------
@@ -23,17 +25,18 @@ Examples
 from __future__ import annotations
 
 import math
-import re
 from numbers import Real
 from typing import Any
 
-from quantiphy import QuantiPhyError, Quantity
+from quantiphy import Quantity
 
-from ..errors import ValueSyntaxError
+from ..errors import ValueRangeError, ValueSyntaxError
+from ..io.values import _MAX_DB, parse_value
 
 __all__ = [
     "db_to_ratio",
     "format_si",
+    "parse_db",
     "parse_fraction",
     "parse_quantity",
     "ratio_to_db",
@@ -89,6 +92,11 @@ def _canonical_unit(unit: str) -> str:
 def parse_quantity(text: Any, unit: str | None = None, *, where: str = "value") -> float:
     """Read a number written with an optional SI prefix and unit.
 
+    Text is read by :func:`opsym.io.values.parse_value`, the one reader of
+    values in opsym, so it means the same here as in a design file or a
+    ``Circuit`` value (``"4k7"``, ``"1meg"``, ``"2R2"``, ``"1%"``); the exact
+    result is then made a float, which the parser's range keeps finite.
+
     Parameters
     ----------
     text : str or real number
@@ -97,7 +105,8 @@ def parse_quantity(text: Any, unit: str | None = None, *, where: str = "value") 
     unit : str, optional
         The unit the value must carry, if it carries one (``"Ω"``, ``"V"``,
         ``"A"``, ...). Text without a unit is taken to be in this unit; text
-        with another unit is an error. ``"ohm"`` is accepted for ``"Ω"``.
+        with another unit is an error. ``"ohm"`` is accepted for ``"Ω"``;
+        ``"V/V"`` fields take ratios (``%``, ``ppm``, ``dB``).
     where : str
         The field being read, for error messages.
 
@@ -108,8 +117,9 @@ def parse_quantity(text: Any, unit: str | None = None, *, where: str = "value") 
     Raises
     ------
     opsym.ValueSyntaxError
-        The text is not a number with an optional prefix and unit, is not
-        finite, or carries another unit than ``unit``.
+        The text is not a value (an unknown word is never dropped), is out of
+        range (:class:`~opsym.ValueRangeError`), or carries another unit than
+        ``unit``.
 
     Examples
     --------
@@ -117,8 +127,8 @@ def parse_quantity(text: Any, unit: str | None = None, *, where: str = "value") 
     10000.0
     >>> parse_quantity("100 nA", unit="A")
     1e-07
-    >>> parse_quantity("25u", unit="V")
-    2.5e-05
+    >>> parse_quantity("25u", unit="V"), parse_quantity("1meg", unit="Ω")
+    (2.5e-05, 1000000.0)
     >>> parse_quantity("3 mV", unit="A", where="U1 Ib")
     Traceback (most recent call last):
     ...
@@ -129,76 +139,77 @@ def parse_quantity(text: Any, unit: str | None = None, *, where: str = "value") 
     if isinstance(text, Real):
         value = float(text)
         if not math.isfinite(value):
-            raise ValueSyntaxError(f"{where}: {value} is not finite; give a finite number")
+            raise ValueRangeError(f"{where}: {value} is not finite; give a finite number")
         return value
     if not isinstance(text, str):
         raise ValueSyntaxError(
             f"{where}: cannot read a {type(text).__name__}; give a number or text such as '10k'"
         )
-    stripped = text.strip()
-    example = _example(unit)
-    if _NOT_SI_PREFIX.fullmatch(stripped):
-        # quantiphy reads R, Q, r, q as the 2022 SI prefixes ronna, quetta, ronto and
-        # quecto; in a circuit "100R" is 100 Ω (the trade's R-notation), so it goes to
-        # the design-file parser, which knows that and refuses the rest.
-        trade = _trade_notation(stripped, unit, where)
-        if trade is None:
-            raise ValueSyntaxError(
-                f"{where}: cannot read {text!r}; R marks the decimal point in ohms (4R7 = "
-                "4.7 Ω), and opsym does not use the prefixes ronna/quetta (R, Q) or "
-                "ronto/quecto (r, q)"
-            )
-        return trade
-    try:
-        q = Quantity(stripped)
-    except QuantiPhyError:
-        trade = _trade_notation(stripped, unit, where)
-        if trade is not None:
-            return trade
-        raise ValueSyntaxError(
-            f"{where}: cannot read {text!r}; write a number with an optional SI prefix "
-            f"and unit, e.g. {example!r}"
-        ) from None
-    value = float(q)
-    if not math.isfinite(value):
-        raise ValueSyntaxError(f"{where}: {text!r} is not finite; give a finite number")
-    got = _canonical_unit(q.units) if q.units else ""
-    if got and (unit is None or got != _canonical_unit(unit)) and got not in _UNIT_WORDS:
-        trade = _trade_notation(stripped, unit, where)  # "2R2" reads as 2 with unit "R2"
-        if trade is not None:
-            return trade
-    if unit is not None and got and got != _canonical_unit(unit):
+    exact = parse_value(text, where=where)  # the syntax, every word known, the range
+    if unit is not None:
         want = _canonical_unit(unit)
-        word = _UNIT_WORDS.get(want)
-        expected = f"{word} ({want})" if word else want
-        raise ValueSyntaxError(
-            f"{where}: {text!r} is in {got}, expected {expected}; write e.g. {example!r}"
-        )
+        try:
+            parse_value(text, where=where, unit=_PARSER_UNITS.get(want, want))
+        except ValueSyntaxError as err:
+            got = getattr(err, "unit", None)
+            if got is None:
+                raise
+            word = _UNIT_WORDS.get(want)
+            expected = _EXPECTED.get(want, f"{word} ({want})" if word else want)
+            raise ValueSyntaxError(
+                f"{where}: {text!r} is in {got}, expected {expected}; "
+                f"write e.g. {_example(unit)!r}"
+            ) from None
+    return _to_float(exact, text, where)
+
+
+#: Units a caller may name and the unit the value parser checks for each.
+_PARSER_UNITS = {"V/V": "ratio", "%": "ratio", "ppm": "ratio", "dB": "ratio"}
+#: The unit of a level in dB once "dB" is taken off: a plain number, no unit word.
+_DB_NUMBER = "dB number"
+_EXPECTED = {"V/V": "a ratio (a number, %, ppm or dB)", _DB_NUMBER: "a number of decibels"}
+
+
+def _to_float(exact: Any, text: str, where: str) -> float:
+    value = float(exact)
+    if not math.isfinite(value) or (value == 0.0 and exact != 0):  # the parser's range forbids
+        raise ValueRangeError(f"{where}: {text!r} is out of range; give a finite number")
     return value
 
 
-#: A number whose prefix letter is R, Q, r or q.
-_NOT_SI_PREFIX = re.compile(r"[+-]?(\d+\.?\d*|\.\d+)\s*[RQrq]\d*\s*(Ω|ohms?)?")
+def parse_db(text: Any, *, where: str = "value") -> float:
+    """Read a level in dB: ``"100 dB"``, ``"-3 dB"`` or a plain number (in dB).
 
-#: Units the whitelist value parser can check.
-_PARSER_UNITS = {"Ω", "V", "A", "F", "Hz", "V/°C", "A/°C"}
+    The number is read by :func:`opsym.io.values.parse_value` and must lie
+    within ±3000 dB, the parser's range for values in dB.
 
-
-def _trade_notation(text: str, unit: str | None, where: str) -> float | None:
-    """Forms quantiphy does not read but the design-file parser does (``4k7``, ``2R2``,
-    ``5 µV/°C``), so one syntax holds everywhere; ``None`` if it cannot read them either."""
-    from ..io.values import parse_value
-
-    want = _canonical_unit(unit) if unit else None
-    try:
-        value = parse_value(text, where=where, unit=want if want in _PARSER_UNITS else None)
-    except ValueSyntaxError:
-        return None
-    return float(value) if value.is_number else None
+    Examples
+    --------
+    >>> parse_db("100 dB"), parse_db("-3dB"), parse_db(90)
+    (100.0, -3.0, 90.0)
+    >>> parse_db("1e6 dB", where="CMRR")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    opsym.errors.ValueRangeError: CMRR: '1e6 dB' is out of range; give a level within ±3000 dB
+    """
+    if isinstance(text, str):
+        body = text.strip()
+        body = body[:-2] if body.endswith("dB") else body
+        level = parse_quantity(body, _DB_NUMBER, where=where)
+    else:
+        level = parse_quantity(text, where=where)
+    if abs(level) > _MAX_DB:
+        raise ValueRangeError(
+            f"{where}: {text!r} is out of range; give a level within ±{_MAX_DB} dB"
+        )
+    return level
 
 
 def _example(unit: str | None) -> str:
-    examples = {"Ω": "10 kΩ", "V": "25 µV", "A": "100 nA", "F": "4.7 nF", "Hz": "10 kHz"}
+    examples = {
+        "Ω": "10 kΩ", "V": "25 µV", "A": "100 nA", "F": "4.7 nF", "Hz": "10 kHz",
+        "V/V": "1%", _DB_NUMBER: "100 dB",
+    }  # fmt: skip
     if unit is None:
         return "10k"
     return examples.get(_canonical_unit(unit), f"1.5 k{unit}")
@@ -252,6 +263,9 @@ def format_si(x: float, unit: str = "", digits: int = 4, *, latex: bool = False)
 def parse_fraction(text: Any, *, where: str = "value") -> float:
     """Read a fraction written as a number, a percentage or parts per million.
 
+    Text is read by :func:`opsym.io.values.parse_value` as a ratio: ``%``,
+    ``ppm`` and ``dB`` fit, other units are an error that names ``where``.
+
     Examples
     --------
     >>> parse_fraction("1%")
@@ -261,27 +275,27 @@ def parse_fraction(text: Any, *, where: str = "value") -> float:
     >>> parse_fraction(0.001)
     0.001
     """
-    if isinstance(text, str):
-        s = text.strip()
-        for suffix, per in (("%", 100.0), ("ppm", 1e6)):
-            if s.endswith(suffix):
-                body = s[: -len(suffix)].strip()
-                if not body:
-                    break
-                return parse_quantity(body, where=where) / per
-        return parse_quantity(s, where=where)
-    return parse_quantity(text, where=where)
+    return parse_quantity(text, "V/V", where=where)
 
 
-def db_to_ratio(db: float) -> float:
+def db_to_ratio(db: float, *, where: str = "ratio in dB") -> float:
     """Turn a rejection ratio in dB (a voltage ratio, 20·log10) into V/V.
+
+    ``inf`` dB (no limit) gives an infinite ratio; a finite level beyond
+    ±3000 dB is a :class:`~opsym.ValueRangeError` naming ``where``.
 
     Examples
     --------
     >>> round(db_to_ratio(90.0))
     31623
     """
-    return 10.0 ** (float(db) / 20.0)
+    level = float(db)
+    if math.isfinite(level) and abs(level) > _MAX_DB:
+        raise ValueRangeError(
+            f"{where}: {level:g} dB is out of range; give a level within ±{_MAX_DB} dB "
+            "(inf for no limit)"
+        )
+    return 10.0 ** (level / 20.0)
 
 
 def ratio_to_db(ratio: float) -> float:

@@ -63,6 +63,7 @@ def noise_table(budget: NoiseBudget) -> Table:
         f"Resistors at {budget.temperature - 273.15:g} °C ({budget.temperature:g} K), "
         "4kTR with k = 1.380649e-23 J/K (SI, exact).",
         PEAK_TO_PEAK_RULE + ".",
+        *_accuracy_note(budget),
         SHORT_CAUTION,
     )
     return Table(
@@ -72,6 +73,18 @@ def noise_table(budget: NoiseBudget) -> Table:
         f"Noise budget at {budget.output}, {band}",
         tuple(footer),
         notes,
+    )
+
+
+def _accuracy_note(budget: NoiseBudget) -> tuple[str, ...]:
+    """How well the band integrals are known, when the budget says."""
+    if budget.total_error is None:
+        return ()
+    relative = budget.total_error / budget.total if budget.total > 0 else 0.0
+    return (
+        "Band integrals: adaptive Gauss–Kronrod in ln f, break points at every pole and "
+        f"zero; estimated error of the total ±{budget.total_error:.1e} V rms "
+        f"({relative:.1e} relative).",
     )
 
 

@@ -94,7 +94,9 @@ def test_expressions_with_names():
     [
         ("", "empty"),
         ("10x", "unknown prefix or unit 'x' at column 3"),
-        ("1meg", "'meg' is not a prefix"),
+        ("1 mil", "'mil' is SPICE's thousandth of an inch"),
+        ("1 mega", "M or meg for mega"),
+        ("1 MEGOHM", "meg (or M) with a unit"),
         ("1.2.3", "second decimal point"),
         ("1e", "exponent needs digits"),
         ("1e999", "too large"),
