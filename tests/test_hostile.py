@@ -308,3 +308,12 @@ def test_design_file_limits_are_documented():
     docs = Path(__file__).parents[1] / "docs"
     text = (docs / "design-files.md").read_text(encoding="utf-8")
     assert "## Limits" in text and "1e30" in text and "2000" in text
+
+
+def test_the_element_count_is_limited():
+    """Limits: at most 2000 elements (docs/design-files.md, "Limits")."""
+    c = opsym.Circuit("big")
+    for i in range(2000):
+        c.resistor(f"R{i}", f"n{i}", f"n{i + 1}", value=1000)
+    with pytest.raises(opsym.CircuitError, match="already has 2000 elements"):
+        c.resistor("Rx", "a", "0")
