@@ -497,7 +497,7 @@ class _Progress:
         self.detail = ""
         self._lock = threading.Lock()
         self._stop = threading.Event()
-        self._beat = threading.Thread(target=self._heartbeat, daemon=True)
+        self._beat = threading.Thread(target=self._heartbeat, name="opsym-progress", daemon=True)
         self._beat.start()
 
     def __call__(self, done: int, total: int, what: str) -> None:

@@ -292,7 +292,7 @@ def test_progress_keeps_talking_during_one_long_step():
     progress.close()
     lines = [ln for ln in stream.getvalue().splitlines() if "deriving the closed form" in ln]
     assert len(lines) >= 2, stream.getvalue()
-    assert not any(t.name == "Thread-heartbeat" for t in threading.enumerate())
+    assert not any(t.name == "opsym-progress" for t in threading.enumerate())  # stopped
 
 
 def test_progress_is_silent_for_quick_runs():
