@@ -18,7 +18,7 @@ Examples
 <class 'opsym.model.circuit.Circuit'>
 """
 
-from .analyses.noise import NoiseBudget, NoiseResult
+from .analyses.noise import NoiseResult
 from .analyses.result import Result, SourceInfo
 from .errors import (
     ArgumentTypeError,
@@ -39,7 +39,6 @@ from .errors import (
 )
 from .io.design import Design
 from .io.designfile import load_design, parse_design
-from .io.values import parse_value
 from .io.writer import dump_design
 from .model import (
     BiasCurrents,
@@ -48,6 +47,7 @@ from .model import (
     CurrentNoise,
     InputOffset,
     NonIdeal,
+    PinAdmittance,
     PinCurrent,
     SeriesVoltage,
     SinglePole,
@@ -58,24 +58,28 @@ from .model.symbols import LAPLACE as s
 from .numeric import (
     ADC,
     BiasLaw,
-    Budget,
     OpAmpParams,
     ResistorParams,
-    budget_over_temperature,
     choose_for_null,
-    corner_values,
-    error_budget,
     format_si,
-    monte_carlo,
     opamp_parameters,
     parse_quantity,
     preferred_value,
     resistor_parameters,
-    tolerance_analysis,
 )
 from .output import FrequencySection, NoiseSection, design_note
 from .output.latex import transfer_latex
 from .output.noise import noise_latex
+from .study import (
+    Budget,
+    budget_over_temperature,
+    corner_values,
+    error_budget,
+    monte_carlo,
+    tolerance_analysis,
+)
+from .study.noise import NoiseBudget
+from .values import parse_value
 
 __version__ = "0.1.0"
 
@@ -106,6 +110,7 @@ __all__ = [
     "NonIdeal",
     "OpAmpParams",
     "OpsymError",
+    "PinAdmittance",
     "PinCurrent",
     "ResistorParams",
     "Result",

@@ -34,7 +34,22 @@ from pathlib import Path
 from typing import Any, NamedTuple, TextIO
 
 from . import __version__
+from .demo import run  # imported here: the demo pulls in the whole library
 from .errors import OpsymError
+from .io import designfile  # called as designfile.load_design, so tests can stand in
+from .io.writer import dump_design
+from .output.circuit_text import element_lines
+from .output.figures import (
+    bode_chart,
+    contribution_chart,
+    gain_error_chart,
+    monte_carlo_histogram,
+    noise_density_chart,
+    temperature_chart,
+)
+from .output.notes import design_note
+from .output.sections import FrequencySection, NoiseSection
+from .study.design import run_design
 
 __all__ = ["main"]
 
@@ -144,18 +159,16 @@ def _parser() -> argparse.ArgumentParser:
 
 
 def _demo(args: argparse.Namespace) -> int:
-    from .demo import run  # imported here: the demo pulls in the whole library
 
     return int(run(sys.stdout))
 
 
 def _check(args: argparse.Namespace) -> int:
-    from .io.designfile import load_design
 
     failed = 0
     for name in args.files:
         try:
-            d = load_design(name)
+            d = designfile.load_design(name)
         except OpsymError as err:
             _fail(str(err))
             failed += 1
@@ -166,20 +179,16 @@ def _check(args: argparse.Namespace) -> int:
 
 
 def _rewrite(args: argparse.Namespace) -> int:
-    from .io.designfile import load_design
-    from .io.writer import dump_design
 
-    sys.stdout.write(dump_design(load_design(args.file)))
+    sys.stdout.write(dump_design(designfile.load_design(args.file)))
     return 0
 
 
 def _report(args: argparse.Namespace) -> int:
-    from .io.designfile import load_design
-    from .io.study import run_design
 
     notes = [p for p in (args.latex, args.markdown) if p is not None]
     _refuse_clashes(notes, [Path(args.file)])  # before the work, not after it
-    design = load_design(args.file)
+    design = designfile.load_design(args.file)
     progress = None if args.quiet else _Progress(sys.stderr)
     try:
         study = run_design(design, progress=progress)
@@ -227,14 +236,6 @@ def _figure_plans(study: Any, directory: Path) -> list[_Plan]:
     """The figures this study can draw."""
     from functools import partial
 
-    from .output.figures import (
-        bode_chart,
-        contribution_chart,
-        gain_error_chart,
-        monte_carlo_histogram,
-        noise_density_chart,
-        temperature_chart,
-    )
 
     plans: list[_Plan] = []
     r, n = study.response, study.noise
@@ -366,8 +367,6 @@ def _note(study: Any, fmt: str, plans: list[_Plan], path: Path, standalone: bool
     """A design note with its frequency-response and noise sections, figures in place."""
     import os
 
-    from .output.notes import design_note
-    from .output.sections import FrequencySection, NoiseSection
 
     here = path.parent.resolve()
 
@@ -414,7 +413,6 @@ def _response_points(r: Any) -> list[float]:
 
 
 def _summary(study: Any, out: TextIO) -> None:
-    from .output.circuit_text import element_lines
 
     d, res = study.design, study.result
 

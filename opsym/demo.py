@@ -29,6 +29,11 @@ from typing import Any, TextIO
 import sympy as sp
 
 from .model.circuit import Circuit
+from .numeric.adc import ADC
+from .numeric.eseries import choose_for_null
+from .numeric.params import opamp_parameters, resistor_parameters
+from .numeric.units import format_si
+from .study.budget import error_budget
 
 __all__ = ["VALUES", "build_circuit", "run"]
 
@@ -69,11 +74,6 @@ def build_circuit(gain: str = "finite") -> Circuit:
 
 def run(stream: TextIO | None = None) -> int:
     """Print the worked example to ``stream`` (standard output by default)."""
-    from .numeric.adc import ADC
-    from .numeric.budget import error_budget
-    from .numeric.eseries import choose_for_null
-    from .numeric.params import opamp_parameters, resistor_parameters
-    from .numeric.units import format_si
 
     out = stream or sys.stdout
 

@@ -38,7 +38,7 @@ GARBAGE = st.one_of(
     st.none(),
     st.booleans(),
     st.integers(min_value=-(10**6), max_value=10**6),
-    st.sampled_from([10**40, -(10**400), 10**5000, 0, -1]),
+    st.sampled_from([10**160, -(10**400), 10**5000, 0, -1]),
     st.floats(allow_nan=True, allow_infinity=True),
     st.sampled_from([1e308, 5e-324, 1e-310, -0.0]),
     st.sampled_from([sp.Float("1e400"), sp.Float("-1e-400"), sp.nan, sp.zoo, sp.oo, sp.I]),
@@ -247,4 +247,4 @@ def test_cli_never_shows_a_traceback(tmp_path_factory, text):
 
 def test_fuzz_strategies_cover_the_limits():
     """The garbage above includes numbers past every limit the docs state."""
-    assert 10**5000 > 1e30 and 5e-324 < 1e-30 and math.isinf(float(sp.Float("1e400")))
+    assert 10**160 > 1e150 and 5e-324 < 1e-150 and math.isinf(float(sp.Float("1e400")))

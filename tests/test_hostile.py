@@ -57,11 +57,11 @@ def cli(*argv: str) -> tuple[int, str]:
 
 
 @pytest.mark.parametrize(
-    "value", [10**5000, sp.Float("1e400"), 1e308, 1e-300, -(10**40)],
-    ids=["int 1e5000", "Float 1e400", "1e308", "1e-300", "-1e40"],
+    "value", [10**5000, sp.Float("1e400"), 1e308, 1e-300, -(10**160)],
+    ids=["int 1e5000", "Float 1e400", "1e308", "1e-300", "-1e160"],
 )
 def test_numbers_out_of_range_name_the_field(value):
-    """Limits: |x| within 1e-30 … 1e30 (docs/design-files.md, "Limits")."""
+    """Limits: |x| within 1e-150 … 1e150 (docs/design-files.md, "Limits")."""
     with pytest.raises(opsym.InvalidValueError, match=r"resistor R9: the number .* out of range"):
         stage().resistor("R9", "a", "0", value=value)
 
@@ -262,7 +262,7 @@ def test_a_failed_write_leaves_the_old_file_whole(tmp_path, monkeypatch):
 
 def test_report_names_each_long_phase(tmp_path):
     """run_design tells the command line's reporter every phase it starts."""
-    from opsym.io.study import run_design
+    from opsym.study.design import run_design
 
     text = STAGE_TOML + '[response]\nfrom = "10 Hz"\nto = "1 MHz"\n'
     text = text.replace('out = "out"\n', 'out = "out"\ngain = "pole"\nparameters = '
@@ -307,7 +307,7 @@ def test_progress_is_silent_for_quick_runs():
 def test_design_file_limits_are_documented():
     docs = Path(__file__).parents[1] / "docs"
     text = (docs / "design-files.md").read_text(encoding="utf-8")
-    assert "## Limits" in text and "1e30" in text and "2000" in text
+    assert "## Limits" in text and "1e150" in text and "2000" in text
 
 
 def test_the_element_count_is_limited():

@@ -14,9 +14,9 @@ import opsym
 from opsym.analyses.operating import Rails, operating_point
 from opsym.errors import DesignFileError, InvalidValueError
 from opsym.io.designfile import parse_design
-from opsym.io.study import rails_of, run_design
 from opsym.io.writer import dump_design
 from opsym.numeric.params import OPAMP_SETS, OpAmpParams
+from opsym.study.design import rails_of, run_design
 
 
 def test_inverting_stage_output_is_minus_r2_over_r1_times_vin():

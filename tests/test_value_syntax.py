@@ -36,11 +36,11 @@ from opsym import (
     ValueSyntaxError,
 )
 from opsym.io.designfile import parse_design
-from opsym.io.values import MAX_LENGTH, PREFIXES, parse_value
-from opsym.numeric.budget import error_budget
 from opsym.numeric.eseries import preferred_value
-from opsym.numeric.tolerance import corner_values
 from opsym.numeric.units import parse_db, parse_fraction, parse_quantity
+from opsym.study.budget import error_budget
+from opsym.study.tolerance import corner_values
+from opsym.values import MAX_LENGTH, PREFIXES, parse_value
 
 # text, what it means (a number, or the error class), the unit written in the text
 # (None: a plain number that fits every field).

@@ -20,12 +20,13 @@ from typing import Any
 
 import sympy as sp
 
+from .._services import provides
 from ..equations.adjoint import Progress, product, solve_adjoint
 from ..equations.mna import DOMAINS, build_equations
 from ..errors import InvalidValueError, UnknownNameError
-from ..model.circuit import GROUND, Circuit, to_exact
+from ..model.circuit import GROUND, Circuit
 from ..model.elements import CurrentSource, OpAmp, VoltageSource
-from ..model.limits import expect_mapping, shown
+from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, OPAMP_PARAMETERS, source_symbol
 from ..model.topology import check_topology
 from .result import Result, SourceInfo
@@ -61,41 +62,10 @@ def resolve_values(circuit: Circuit, values: Mapping[Any, Any] | None) -> dict[s
                 "values: 's' is the Laplace variable, not a value to fix; evaluate a result "
                 "at frequencies with Result.response(f) instead"
             )
-        out[sym] = admissible(circuit, sym, to_exact(value, f"values[{sym.name}]"), "values")
+        where = f"values[{sym.name}]"
+        exact = exact_value(value, where)
+        out[sym] = admissible(circuit, sym, exact, "values")
     return out
-
-
-def admissible(circuit: Circuit, sym: sp.Symbol, v: sp.Expr, where: str) -> sp.Expr:
-    """Return ``v`` if it can be the value of ``sym``; else say what ``sym`` needs.
-
-    A component value (R, C, L), gain, GBW are positive; densities and corners
-    are not negative; CMRR and PSRR are not zero.
-
-    Examples
-    --------
-    >>> import opsym
-    >>> c = opsym.Circuit("t")
-    >>> c.resistor("R1", "a", "0")
-    >>> admissible(c, c.symbol("R1"), sp.Integer(-5), "subs")  # doctest: +ELLIPSIS
-    Traceback (most recent call last):
-    ...
-    opsym.errors.InvalidValueError: subs[R1] = -5: resistor R1 must be positive; ...
-    """
-    rules = [
-        (sym.is_positive, v.is_positive, "must be positive"),
-        (sym.is_nonnegative, v.is_nonnegative, "must not be negative"),
-        (sym.is_nonzero, v.is_nonzero, "must not be zero"),
-        (sym.is_real, v.is_real, "must be real"),
-    ]
-    for needed, holds, what in rules:
-        if needed and holds is False:
-            owner = sym.name.partition(".")[0]
-            element = {e.name: e for e in circuit.elements}.get(owner)
-            named = f"{element.kind} {sym.name}" if element is not None else sym.name
-            raise InvalidValueError(
-                f"{where}[{sym.name}] = {v}: {named} {what}; give a physical value"
-            )
-    return v
 
 
 def _known_symbols(circuit: Circuit) -> dict[str, sp.Symbol]:
@@ -151,6 +121,7 @@ def sources_of(circuit: Circuit, noise: bool = False) -> list[SourceInfo]:
     return infos
 
 
+@provides("derive")
 def derive(
     circuit: Circuit,
     output,

@@ -43,16 +43,16 @@ from typing import Any
 import numpy as np
 import sympy as sp
 
+from .._services import call, provides
 from ..equations.adjoint import solve_adjoint
 from ..equations.mna import build_equations
 from ..errors import BudgetError, InvalidValueError, UnknownNameError
-from ..model.circuit import Circuit, to_exact
+from ..model.circuit import Circuit
 from ..model.elements import CurrentSource, Resistor
-from ..model.limits import check_band, check_frequencies, expect_text
+from ..model.limits import check_band, check_frequencies, expect_text, shown
 from ..model.nonideal import NoiseSpectrum
 from ..model.symbols import LAPLACE, thermal_symbol
 from ..model.topology import check_topology
-from ..numeric._views import TableViews
 from ..numeric.frequency import (
     IntegrationWarning,
     evaluation_form,
@@ -60,6 +60,7 @@ from ..numeric.frequency import (
     integrate_with_error,
     natural_frequencies,
 )
+from ..values import to_exact
 from .derive import coefficients_of, output_weights, resolve_values, sources_of
 from .present import transfer_form
 from .result import SourceInfo
@@ -67,9 +68,7 @@ from .result import SourceInfo
 __all__ = [
     "BOLTZMANN",
     "PEAK_TO_PEAK_FACTOR",
-    "NoiseBudget",
     "NoiseResult",
-    "NoiseRow",
     "noise",
 ]
 
@@ -88,11 +87,15 @@ def kelvin(temperature: Any) -> sp.Expr:
     """``temperature`` in °C (number or text) as exact kelvin; 25 → 298.15."""
     t = to_exact(temperature, "temperature (°C)")
     if not t.is_number:
-        raise InvalidValueError(f"temperature {temperature!r}: give a number of °C, e.g. 25")
+        raise InvalidValueError(f"temperature {shown(temperature)}: give a number of °C, e.g. 25")
     kelvins = t + _ZERO_CELSIUS
+    if kelvins > 10**4:
+        raise InvalidValueError(
+            f"temperature {shown(temperature)} °C is above 10000 °C; give °C, e.g. 25"
+        )
     if not kelvins.is_positive:
         raise InvalidValueError(
-            f"temperature {temperature!r} °C is at or below absolute zero; give °C, e.g. 25"
+            f"temperature {shown(temperature)} °C is at or below absolute zero; give °C, e.g. 25"
         )
     return kelvins
 
@@ -109,6 +112,7 @@ class NoiseSource:
     transfer: sp.Expr
 
 
+@provides("noise")
 def noise(
     circuit: Circuit,
     output: Any,
@@ -207,6 +211,11 @@ class NoiseResult:
     def temperature(self) -> float:
         """The resistors' temperature, in kelvin."""
         return float(self._temperature)
+
+    @property
+    def signals(self) -> tuple[sp.Symbol, ...]:
+        """The circuit's signal sources, to which noise can be referred."""
+        return tuple(self._signals)
 
     @property
     def names(self) -> tuple[str, ...]:
@@ -338,7 +347,7 @@ class NoiseResult:
         else:
             power = lambda f: self.density(f) ** 2  # noqa: E731 - one-line density
         value, error = integrate_with_error(power, f_low, f_high, self._breakpoints(names))
-        return _rms_of(value, error)
+        return rms_and_error(value, error)
 
     def input_rms(self, f_low: float, f_high: float, signal: str | None = None) -> float:
         """RMS of the input-referred density over the band."""
@@ -369,46 +378,19 @@ class NoiseResult:
                     f"{f_low:g} Hz to {f_high:g} Hz: the signal gain falls to (nearly) zero "
                     "in the band; refer the noise to the input over a band without the notch"
                 ) from None
-        return _rms_of(value, error)
+        return rms_and_error(value, error)
 
-    def budget(self, f_low: float, f_high: float, signal: str | None = None) -> NoiseBudget:
-        """Each source's RMS over the band and its share of the total noise power."""
-        f_low, f_high = check_band(f_low, f_high, "noise budget")
-        found = {name: self.rms_with_error(f_low, f_high, name) for name in self.names}
-        parts = {name: v for name, (v, _) in found.items()}
-        total = math.sqrt(sum(v**2 for v in parts.values()))
-        power_error = sum(2 * v * e + e**2 for v, e in found.values())
-        total_error = _rms_of(total**2, power_error)[1]
-        rows = tuple(
-            NoiseRow(
-                name=n,
-                what=f"{self.source(n).what} of {self.source(n).owner}",
-                rms=v,
-                share=(v**2 / total**2) if total > 0 else 0.0,
-            )
-            for n, v in sorted(parts.items(), key=lambda kv: -kv[1])
-        )
-        input_rms, input_unit = None, "V"
-        if self._signals:
-            try:
-                input_rms = self.input_rms(f_low, f_high, signal)
-                source = self._circuit.element(self._signal(signal).name)
-                input_unit = "A" if isinstance(source, CurrentSource) else "V"
-            except (BudgetError, UnknownNameError, InvalidValueError):
-                # No single signal, a zero gain somewhere, or an input-referred density
-                # that does not fall off (f_high = ∞): the budget has no input row.
-                input_rms = None
-        return NoiseBudget(
-            output=self._output if isinstance(self._output, str) else "-".join(self._output),
-            f_low=float(f_low),
-            f_high=float(f_high),
-            temperature=float(self._temperature),
-            rows=rows,
-            total=total,
-            input_rms=input_rms,
-            input_unit=input_unit,
-            total_error=total_error,
-        )
+    def budget(self, f_low: float, f_high: float, signal: str | None = None) -> Any:
+        """Each source's RMS over the band and its share: a :class:`~opsym.NoiseBudget`.
+
+        The study itself lives in :mod:`opsym.study.noise`.
+        """
+        return call("noise_budget", self, f_low, f_high, signal)
+
+    def input_unit(self, signal: str | None = None) -> str:
+        """``"A"`` when the signal is a current source (input noise in A), else ``"V"``."""
+        source = self._circuit.element(self._signal(signal).name)
+        return "A" if isinstance(source, CurrentSource) else "V"
 
     def __repr__(self) -> str:
         out = self._output if isinstance(self._output, str) else "-".join(self._output)
@@ -481,50 +463,9 @@ class NoiseResult:
         return next(iter(self._signals))
 
 
-def _rms_of(power: float, power_error: float) -> tuple[float, float]:
+def rms_and_error(power: float, power_error: float) -> tuple[float, float]:
     """``(√P, error of √P)`` from a power and its absolute error."""
     rms = math.sqrt(max(power, 0.0))
     if rms == 0:
         return rms, math.sqrt(power_error)
     return rms, min(power_error / (2 * rms), math.sqrt(power_error))
-
-
-@dataclass(frozen=True)
-class NoiseRow:
-    """One line of a noise budget: RMS at the output over the band, share of power."""
-
-    name: str
-    what: str
-    rms: float
-    share: float
-
-
-@dataclass(frozen=True)
-class NoiseBudget(TableViews):
-    """RMS noise over a band, source by source, with the total and a p-p estimate.
-
-    ``total_error`` is the estimated absolute error of ``total`` from the band
-    integrals (adaptive quadrature), V rms; ``None`` when not known.
-    """
-
-    output: str
-    f_low: float
-    f_high: float
-    temperature: float
-    rows: tuple[NoiseRow, ...]
-    total: float
-    input_rms: float | None
-    input_unit: str = "V"
-    total_error: float | None = None
-
-    @property
-    def peak_to_peak(self) -> float:
-        """``6.6 × total RMS``: see :data:`PEAK_TO_PEAK_RULE` (common practice)."""
-        return PEAK_TO_PEAK_FACTOR * self.total
-
-    def table(self):
-        """The budget as an :class:`opsym.output.tables.Table`."""
-        from ..output.noise import noise_table
-
-        return noise_table(self)
-

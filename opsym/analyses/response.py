@@ -16,7 +16,7 @@ import sympy as sp
 
 from ..errors import InvalidValueError, NoSolutionError
 from ..model.limits import check_float, check_frequencies
-from ..numeric.frequency import HALF_POWER_DB
+from ..numeric.frequency import HALF_POWER_DB, bandwidth, evaluation_form, evaluator
 
 __all__ = ["FrequencyResponse"]
 
@@ -73,7 +73,6 @@ class FrequencyResponse:
         check_frequencies(f, "response f")
         sym = self._signal(source) if source is None else self._source_symbol(source)
         result = self.ideal() if ideal else self
-        from ..numeric.frequency import evaluator
 
         return evaluator(result._numeric_form(sym), f"the coefficient of {sym}")(f)
 
@@ -99,7 +98,6 @@ class FrequencyResponse:
             raise InvalidValueError(f"bandwidth: drop_db = {drop_db:g}; give a drop > 0, e.g. 3")
         self._need_s("bandwidth")
         sym = self._signal(source) if source is None else self._source_symbol(source)
-        from ..numeric.frequency import bandwidth, evaluator
 
         return bandwidth(evaluator(self._numeric_form(sym), f"the coefficient of {sym}"),
                          drop_db)  # fmt: skip
@@ -126,6 +124,5 @@ class FrequencyResponse:
             )
 
     def _numeric_form(self, sym: sp.Symbol) -> sp.Expr:
-        from ..numeric.frequency import evaluation_form
 
         return evaluation_form(self.compact_coefficient(sym), lambda: self.coefficient(sym))

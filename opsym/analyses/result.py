@@ -33,10 +33,11 @@ from typing import TYPE_CHECKING, Any
 
 import sympy as sp
 
+from .._services import call
 from ..errors import InvalidValueError, NoSolutionError, SingularCircuitError, UnknownNameError
-from ..model.circuit import Circuit, to_exact
+from ..model.circuit import Circuit
 from ..model.elements import OpAmp
-from ..model.limits import expect_mapping, shown
+from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
 from .present import at_infinity, tidy, transfer_form
 from .response import FrequencyResponse
@@ -263,13 +264,13 @@ class Result(FrequencyResponse):
         finite = [a for a in self._circuit.opamps if a.gain is not None]
         if not finite:
             return self
-        from .derive import derive
-
         ideal_circuit = Circuit(self._circuit.title)
         for e in self._circuit.elements:
             ideal_circuit._add(dataclasses.replace(e, gain=None) if isinstance(e, OpAmp) else e)
         try:
-            fresh = derive(ideal_circuit, self._output, values=self._fixed, domain=self._domain)
+            fresh = call(
+                "derive", ideal_circuit, self._output, values=self._fixed, domain=self._domain
+            )
         except SingularCircuitError:
             gains = list({g for a in finite if a.gain is not None for g in a.gain.free_symbols})
             coefficients = {s: at_infinity(c, gains) for s, c in self._coefficients.items()}
@@ -298,9 +299,7 @@ class Result(FrequencyResponse):
         """
         if self._domain == "dc":
             return self
-        from .derive import derive
-
-        fresh = derive(self._circuit, self._output, values=self._fixed)
+        fresh = call("derive", self._circuit, self._output, values=self._fixed)
         if self._post:
             fresh = fresh.subs({k: v for k, v in self._post.items()})
         fresh = fresh._replace(substituted=self._substituted)
@@ -437,8 +436,6 @@ class Result(FrequencyResponse):
         >>> c.analyze("out").common_mode("U1")
         R4*V2/(R3 + R4)
         """
-        from .derive import derive
-
         amp = self._circuit.element(opamp)
         if not isinstance(amp, OpAmp):
             raise UnknownNameError(f"{opamp} is a {amp.kind}, not an op-amp")
@@ -446,7 +443,7 @@ class Result(FrequencyResponse):
         for pin in (amp.plus, amp.minus):
             if pin == "0":
                 continue
-            at_pin = derive(self._circuit, pin, values=self._fixed)
+            at_pin = call("derive", self._circuit, pin, values=self._fixed)
             subs = {**self._fixed, **self._post}
             for info in at_pin.sources:
                 if info.kind == "signal":
@@ -486,9 +483,7 @@ class Result(FrequencyResponse):
 
     def latex(self, names: Mapping[sp.Symbol, str] | None = None) -> str:
         """The output as a LaTeX ``aligned`` block, one source per line."""
-        from ..output.latex import result_latex
-
-        return result_latex(self, names)
+        return call("result_latex", self, names)  # opsym.output.latex writes it
 
     def _repr_latex_(self) -> str:
         return "$\\displaystyle " + self.latex() + "$"
@@ -540,10 +535,10 @@ class Result(FrequencyResponse):
         raise UnknownNameError(f"key {shown(key)} is not a name such as 'R1' or a symbol")
 
     def _value(self, key: Any, value: Any) -> sp.Expr:
-        from .derive import admissible
-
         sym = self._any_symbol(key)
-        return admissible(self._circuit, sym, to_exact(value, f"subs[{key}]"), "subs")
+        where = f"subs[{shown(key)}]"
+        exact = exact_value(value, where)
+        return admissible(self._circuit, sym, exact, "subs")
 
     def _free_symbol(self, name: str | sp.Symbol, what: str) -> sp.Symbol:
         x = self._any_symbol(name)

@@ -39,18 +39,19 @@ Examples
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
+from typing import Any
 
 import sympy as sp
 
 from ..errors import InvalidValueError
 from ..model.circuit import GROUND, Circuit
 from ..model.elements import Capacitor, CurrentSource, Inductor, OpAmp, Resistor, VoltageSource
-from ..model.nonideal import PinCurrent, SeriesVoltage
+from ..model.nonideal import PinAdmittance, PinCurrent, SeriesVoltage
 from ..model.symbols import LAPLACE, source_symbol, thermal_symbol
 
-__all__ = ["DOMAINS", "NodalEquations", "build_equations"]
+__all__ = ["DOMAINS", "INJECTIONS", "STAMPS", "NodalEquations", "build_equations"]
 
 #: The analysis domains: DC (``s = 0``) and Laplace.
 DOMAINS = ("dc", "s")
@@ -98,13 +99,24 @@ class NodalEquations:
 
 
 class _Builder:
-    def __init__(self, nodes: list[str]) -> None:
+    """The system under construction, and what every stamp needs to know."""
+
+    def __init__(
+        self, nodes: list[str], values: Mapping[sp.Symbol, sp.Expr], domain: str, thermal: bool
+    ) -> None:
+        self.values = values
+        self.domain = domain
+        self.thermal = thermal
         self.unknowns: list[str] = [f"V({n})" for n in nodes]
         self.index = {u: i for i, u in enumerate(self.unknowns)}
         self.rows: list[dict[int, sp.Expr]] = [{} for _ in nodes]
         self.labels = [f"KCL at node {n}" for n in nodes]
         self.owners: list[list[str]] = [[] for _ in nodes]
         self.sources: dict[sp.Symbol, dict[int, sp.Expr]] = {}
+
+    def value(self, expr: sp.Expr) -> sp.Expr:
+        """``expr`` with the fixed values put in (``s = 0`` at DC)."""
+        return expr.xreplace(self.values) if self.values else expr
 
     def col(self, node: str) -> int | None:
         return None if node == GROUND else self.index[f"V({node})"]
@@ -175,35 +187,15 @@ def build_equations(
     if domain == "dc":
         values[LAPLACE] = sp.S.Zero
     nodes = [n for n in circuit.nodes if n != GROUND]
-    b = _Builder(nodes)
-
-    def val(expr: sp.Expr) -> sp.Expr:
-        return expr.xreplace(values) if values else expr
-
+    b = _Builder(nodes, values, domain, thermal)
     for e in circuit.elements:
-        if isinstance(e, Resistor):
-            g = 1 / val(e.value)
-            b.admittance(e.a, e.b, g, e.name)
-            if thermal:
-                b.source(b.row_of(e.a), thermal_symbol(e.name), -g, e.name)
-                b.source(b.row_of(e.b), thermal_symbol(e.name), g, e.name)
-        elif isinstance(e, Capacitor):
-            if domain == "dc":
-                continue  # open circuit at DC
-            b.admittance(e.a, e.b, LAPLACE * val(e.value), e.name)
-        elif isinstance(e, Inductor):
-            row, col = b.voltage_branch(e.name, f"inductor {e.name}", e.a, e.b)
-            if domain == "s":
-                b.add(row, col, -LAPLACE * val(e.value), e.name)
-        elif isinstance(e, CurrentSource):
-            s = source_symbol(e.name)
-            b.source(b.row_of(e.a), s, sp.S.NegativeOne, e.name)
-            b.source(b.row_of(e.b), s, sp.S.One, e.name)
-        elif isinstance(e, VoltageSource):
-            row, col = b.voltage_branch(e.name, f"voltage source {e.name}", e.a, e.b)
-            b.source(row, source_symbol(e.name), sp.S.One, e.name)
-        elif isinstance(e, OpAmp):
-            _stamp_opamp(b, e, val)
+        stamp = STAMPS.get(type(e))
+        if stamp is None:
+            raise InvalidValueError(
+                f"{e.describe()}: no stamp for a {type(e).__name__}; register one in "
+                "opsym.equations.mna.STAMPS"
+            )
+        stamp(b, e)
     rows = tuple({c: v for c, v in r.items() if v != 0} for r in b.rows)
     return NodalEquations(
         unknowns=tuple(b.unknowns),
@@ -215,19 +207,77 @@ def build_equations(
     )
 
 
-def _stamp_opamp(b: _Builder, amp: OpAmp, val) -> None:
+# -- one stamp per element class, one per injection shape -----------------------------
+
+
+def _resistor(b: _Builder, e: Resistor) -> None:
+    g = 1 / b.value(e.value)
+    b.admittance(e.a, e.b, g, e.name)
+    if b.thermal:  # R.en in series, as the Norton current R.en/R from a to b
+        b.source(b.row_of(e.a), thermal_symbol(e.name), -g, e.name)
+        b.source(b.row_of(e.b), thermal_symbol(e.name), g, e.name)
+
+
+def _capacitor(b: _Builder, e: Capacitor) -> None:
+    if b.domain == "s":  # open circuit at DC
+        b.admittance(e.a, e.b, LAPLACE * b.value(e.value), e.name)
+
+
+def _inductor(b: _Builder, e: Inductor) -> None:
+    row, col = b.voltage_branch(e.name, f"inductor {e.name}", e.a, e.b)
+    if b.domain == "s":  # a wire at DC
+        b.add(row, col, -LAPLACE * b.value(e.value), e.name)
+
+
+def _current_source(b: _Builder, e: CurrentSource) -> None:
+    s = source_symbol(e.name)
+    b.source(b.row_of(e.a), s, sp.S.NegativeOne, e.name)
+    b.source(b.row_of(e.b), s, sp.S.One, e.name)
+
+
+def _voltage_source(b: _Builder, e: VoltageSource) -> None:
+    row, _ = b.voltage_branch(e.name, f"voltage source {e.name}", e.a, e.b)
+    b.source(row, source_symbol(e.name), sp.S.One, e.name)
+
+
+def _opamp(b: _Builder, amp: OpAmp) -> None:
     row, col = b.branch(amp.name, f"op-amp {amp.name} input")
     b.add(b.row_of(amp.out), col, sp.S.NegativeOne, amp.name)  # output current enters `out`
     b.add(row, b.col(amp.minus), sp.S.One, amp.name)
     b.add(row, b.col(amp.plus), sp.S.NegativeOne, amp.name)
-    inverse_gain = sp.S.Zero if amp.gain is None else 1 / val(amp.gain)
+    inverse_gain = sp.S.Zero if amp.gain is None else 1 / b.value(amp.gain)
     b.add(row, b.col(amp.out), inverse_gain, amp.name)
     for kind in amp.nonideals:
         for inj in kind.injections(amp.name):
-            if isinstance(inj, SeriesVoltage):
-                b.source(row, inj.source, val(inj.weight), amp.name)
-            elif isinstance(inj, PinCurrent):
-                pin = amp.plus if inj.pin == "plus" else amp.minus
-                b.source(b.row_of(pin), inj.source, sp.S.NegativeOne, amp.name)
-            else:  # pragma: no cover - a new injection kind needs a stamp here
-                raise TypeError(f"no stamp for injection {inj!r}")
+            INJECTIONS[type(inj)](b, amp, row, inj)
+
+
+def _series_voltage(b: _Builder, amp: OpAmp, row: int, inj: SeriesVoltage) -> None:
+    b.source(row, inj.source, b.value(inj.weight), amp.name)
+
+
+def _pin_current(b: _Builder, amp: OpAmp, row: int, inj: PinCurrent) -> None:
+    pin = amp.plus if inj.pin == "plus" else amp.minus
+    b.source(b.row_of(pin), inj.source, sp.S.NegativeOne, amp.name)
+
+
+def _pin_admittance(b: _Builder, amp: OpAmp, row: int, inj: PinAdmittance) -> None:
+    pins = {"plus": amp.plus, "minus": amp.minus, "out": amp.out, "ground": GROUND}
+    b.admittance(pins[inj.a], pins[inj.b], b.value(inj.admittance), amp.name)
+
+
+#: The stamp of each element class: a new element adds its class and one function here.
+STAMPS: dict[type, Callable[[_Builder, Any], None]] = {
+    Resistor: _resistor,
+    Capacitor: _capacitor,
+    Inductor: _inductor,
+    CurrentSource: _current_source,
+    VoltageSource: _voltage_source,
+    OpAmp: _opamp,
+}
+#: The stamp of each injection shape of a non-ideality (in series with +, into a pin).
+INJECTIONS: dict[type, Callable[[_Builder, OpAmp, int, Any], None]] = {
+    SeriesVoltage: _series_voltage,
+    PinCurrent: _pin_current,
+    PinAdmittance: _pin_admittance,
+}

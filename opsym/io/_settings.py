@@ -14,6 +14,7 @@ import sympy as sp
 from ..errors import DesignFileError, OpsymError
 from ..model.circuit import Circuit
 from ..model.elements import CurrentSource, Resistor, VoltageSource
+from ..model.nonideal import KINDS
 from ..numeric.params import OpAmpParams, ResistorParams, resistor_parameters
 from ._tables import Table
 from .design import (
@@ -65,11 +66,14 @@ class SettingsReader:
         return self.names[name].is_positive is not True  # sources are real, not positive
 
     def _is_source(self, name: str) -> bool:
+        """``U1.X`` is a term when a DC kind that U1 carries declares X as a source."""
         owner, _, what = name.partition(".")
-        kinds = self.kinds.get(owner, ())
-        needs = {"Vos": "offset", "Ib+": "bias", "Ib-": "bias", "Ib": "bias", "Ios": "bias",
-                 "Vcm": "cmrr", "dVs": "psrr"}.get(what)  # fmt: skip
-        return needs is not None and needs in kinds
+        return any(
+            spec.suffix == what and spec.role == "source"
+            for kind in self.kinds.get(owner, ())
+            if kind in KINDS and not KINDS[kind].noise
+            for spec in KINDS[kind].symbols
+        )
 
     def component_name(self, t: Table, key: str, text: str) -> str:
         comps = [n for n, s in self.names.items() if "." not in n and s.is_positive]

@@ -28,7 +28,7 @@ from typing import Any
 import sympy as sp
 
 from ..errors import DesignFileError, OpsymError, ValueSyntaxError
-from .values import parse_value
+from ..values import parse_value
 
 __all__ = ["Locator", "Table"]
 
@@ -183,7 +183,7 @@ class Table:
         self, key: str, *, unit: str | None = None,
         names: Mapping[str, sp.Expr] | None = None, required: bool = False,
     ) -> sp.Expr | None:  # fmt: skip
-        """A value: a TOML number, or text read by :func:`~opsym.io.values.parse_value`."""
+        """A value: a TOML number, or text read by :func:`~opsym.values.parse_value`."""
         if not self._present(key):
             if required:
                 raise self.error(None, f"the key '{key}' is missing; give a value such as '10k'")

@@ -15,6 +15,9 @@ from typing import TYPE_CHECKING, Any
 import sympy as sp
 
 from ..model.circuit import Circuit
+from ..model.elements import TWO_TERMINALS, OpAmp
+from ..model.nonideal import kind_of
+from ..model.symbols import SYMBOLS
 from ..numeric.params import OpAmpParams, ResistorParams
 
 if TYPE_CHECKING:
@@ -24,8 +27,6 @@ __all__ = [
     "DEFAULT_INCLUDE",
     "ELEMENT_TABLES",
     "FORMAT",
-    "OPAMP_VALUES",
-    "PARAMETER_UNITS",
     "BudgetSettings",
     "Design",
     "NoiseSettings",
@@ -33,34 +34,32 @@ __all__ = [
     "ResponseSettings",
     "SensitivityRequest",
     "ToleranceSettings",
+    "opamp_values",
 ]
 
 #: The design-file format this version reads and writes.
 FORMAT = 1
 
 #: Element tables, in the order they are read and written.
-ELEMENT_TABLES = (
-    "resistors", "capacitors", "inductors", "voltage-sources", "current-sources", "opamps",
-)  # fmt: skip
+ELEMENT_TABLES = (*(cls.table for cls in TWO_TERMINALS), OpAmp.table)
 #: What an op-amp carries without ``include``: the defaults of ``Circuit.opamp``.
 DEFAULT_INCLUDE = ("offset", "bias", "vnoise", "inoise")
-#: Op-amp parameter fields and the unit of each (``None``: a plain ratio).
-PARAMETER_UNITS: dict[str, str | None] = {
-    "vos_typ": "V", "vos_max": "V", "drift_typ": "V/°C", "drift_max": "V/°C",
-    "ib_typ": "A", "ib_max": "A", "ios_typ": "A", "ios_max": "A",
-    "a_typ": None, "a_min": None,
-    "cmrr_typ_db": "dB", "cmrr_min_db": "dB", "psrr_typ_db": "dB", "psrr_min_db": "dB",
-    "gbw_typ": "Hz", "en_typ": "V/√Hz", "in_typ": "A/√Hz", "fce": "Hz", "fci": "Hz",
-    "rail_neg": "V", "rail_pos": "V", "swing_headroom": "V", "cm_headroom": "V",
-}  # fmt: skip
-#: Numbers an op-amp table may give for its own symbols (``U1.Vcm`` ...), with the
-#: unit of each and the gain model or kind of error source that uses it.
-OPAMP_VALUES: dict[str, tuple[str, str]] = {
-    "Vcm": ("V", "cmrr"), "dVs": ("V", "psrr"),
-    "A0": ("ratio", "pole"), "GBW": ("Hz", "pole"),
-    "en": ("V/√Hz", "vnoise"), "fce": ("Hz", "vnoise"),
-    "in": ("A/√Hz", "inoise"), "fci": ("Hz", "inoise"),
-}  # fmt: skip
+def opamp_values() -> dict[str, tuple[str, str]]:
+    """Numbers an op-amp table may give for its own symbols (``U1.Vcm`` ...).
+
+    Each registered symbol declared with ``file_value=True``, with its unit and
+    the kind (or gain model) that uses it.
+
+    Examples
+    --------
+    >>> opamp_values()["Vcm"], opamp_values()["A0"]
+    (('V', 'cmrr'), ('ratio', 'pole'))
+    """
+    return {
+        spec.suffix: (spec.unit or "ratio", kind_of(spec.suffix) or "")
+        for spec in SYMBOLS.values()
+        if spec.file_value
+    }
 
 
 @dataclass(frozen=True)
@@ -85,7 +84,7 @@ class SensitivityRequest:
 
 @dataclass(frozen=True)
 class BudgetSettings:
-    """How to put numbers into the error budget (see :func:`opsym.numeric.budget.error_budget`).
+    """How to put numbers into the error budget (see :func:`opsym.study.budget.error_budget`).
 
     ``temperatures`` lists the temperatures (°C) to evaluate; ``adc_bits`` with
     ``adc_reference`` (V) and ``adc_range`` describe the converter;

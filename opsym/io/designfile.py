@@ -3,7 +3,7 @@
 The format is described in ``docs/design-files.md``. :func:`load_design` reads
 a file into a :class:`Design` (an :class:`opsym.Circuit` plus its settings);
 :func:`parse_design` does the same for text. Every value goes through the
-whitelist parser :func:`~opsym.io.values.parse_value`; nothing in a file is
+whitelist parser :func:`~opsym.values.parse_value`; nothing in a file is
 ever evaluated. Unknown keys are errors, and every error names the file, the
 table, the key and (when it can be found) the line.
 
@@ -46,6 +46,7 @@ import sympy as sp
 from ..errors import ArgumentTypeError, DesignFileError, InvalidValueError, OpsymError
 from ..model.circuit import Circuit
 from ..model.elements import (
+    TWO_TERMINALS,
     Capacitor,
     CurrentSource,
     Inductor,
@@ -55,20 +56,31 @@ from ..model.elements import (
 )
 from ..model.limits import expect_text
 from ..model.nonideal import KINDS, SinglePole
-from ..model.symbols import OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
+from ..model.symbols import (
+    OPAMP_PARAMETERS,
+    SYMBOLS,
+    component_symbol,
+    opamp_symbol,
+    source_symbol,
+)
 from ..model.topology import check_topology
 from ..numeric.eseries import SERIES
-from ..numeric.params import OpAmpParams, ResistorParams, opamp_parameters, resistor_parameters
+from ..numeric.params import (
+    OpAmpParams,
+    ResistorParams,
+    field_units,
+    opamp_parameters,
+    resistor_parameters,
+)
 from ._settings import SettingsReader
 from ._tables import Locator, Table
 from .design import (
     DEFAULT_INCLUDE,
     ELEMENT_TABLES,
     FORMAT,
-    OPAMP_VALUES,
-    PARAMETER_UNITS,
     Design,
     NullRequest,
+    opamp_values,
 )
 
 if sys.version_info >= (3, 11):
@@ -239,8 +251,7 @@ class _Reader(SettingsReader):
         self, circuit: Circuit, kind: str, name: str, t: Table,
         equations: dict[str, tuple[Table, str]],
     ) -> None:  # fmt: skip
-        unit = {"resistors": "Ω", "capacitors": "F", "inductors": "H",
-                "voltage-sources": "V"}.get(kind, "A")  # fmt: skip
+        unit = next(cls.unit for cls in TWO_TERMINALS if cls.table == kind)
         if kind == "voltage-sources":
             a, b = t.take_node("plus"), t.take_node("minus")
         elif kind == "current-sources":
@@ -321,10 +332,10 @@ class _Reader(SettingsReader):
         )  # fmt: skip
 
     def opamp_values(self, name: str, t: Table, gain: Any, include: list[str]) -> None:
-        """``Vcm``, ``dVs``, ``A0``, ``GBW``, ``en``, ``fce``, ``in``, ``fci``: numbers only."""
+        """The op-amp's own numbers (``Vcm``, ``A0``, ``en``, ...: see ``opamp_values``)."""
         own = set(SinglePole().parameters(name))
         pole = gain == "pole" or (isinstance(gain, sp.Expr) and bool(gain.free_symbols & own))
-        for what, (unit, needs) in OPAMP_VALUES.items():
+        for what, (unit, needs) in opamp_values().items():
             value = t.take_value(what, unit=unit)
             if value is None:
                 continue
@@ -346,10 +357,10 @@ class _Reader(SettingsReader):
                 if value.is_negative:
                     raise t.error(what, f"{what} = {value} is negative; give a value >= 0")
                 if needs not in include:
-                    kind = "voltage" if needs == "vnoise" else "current"
+                    words = SYMBOLS[what].words
                     raise t.error(
-                        what, f"the op-amp does not carry {kind} noise; add \"{needs}\" to "
-                        f"include or remove {what}"
+                        what, f"{what} ({words}) belongs to the kind {needs!r}, which the "
+                        f"op-amp does not carry; add \"{needs}\" to include or remove {what}"
                     )  # fmt: skip
             self.values[f"{name}.{what}"] = value
 
@@ -385,7 +396,7 @@ class _Reader(SettingsReader):
         description = p.take_str("description", default=None)
         if description is not None:
             fields["description"] = description
-        for key, unit in PARAMETER_UNITS.items():
+        for key, unit in field_units().items():
             if not p.has(key):
                 continue
             value = p.raw(key)

@@ -1,4 +1,4 @@
-"""Write exact values and expressions as text that :func:`~opsym.io.values.parse_value` reads.
+"""Write exact values and expressions as text that :func:`~opsym.values.parse_value` reads.
 
 The inverse of the value parser, used when a design file is written: numbers
 get SI prefixes (``4.7n``), other rationals are fractions (``1/3``), powers of

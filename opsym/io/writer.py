@@ -51,29 +51,29 @@ import sympy as sp
 from ..errors import DesignFileError, OpsymError
 from ..model.circuit import Circuit
 from ..model.elements import (
-    Capacitor,
+    TWO_TERMINALS,
     CurrentSource,
-    Inductor,
     OpAmp,
     Resistor,
     VoltageSource,
 )
 from ..model.nonideal import KINDS, SinglePole
 from ..model.symbols import component_symbol, opamp_symbol, source_symbol
-from ..numeric.params import OPAMP_SETS, RESISTOR_SETS, BiasLaw, OpAmpParams, ResistorParams
-from .design import DEFAULT_INCLUDE, FORMAT, OPAMP_VALUES, PARAMETER_UNITS, Design
+from ..numeric.params import (
+    OPAMP_SETS,
+    RESISTOR_SETS,
+    BiasLaw,
+    OpAmpParams,
+    ResistorParams,
+    field_units,
+)
+from ..values import to_exact
+from .design import DEFAULT_INCLUDE, FORMAT, Design, opamp_values
 from .formatting import format_value, plain_decimal
 
 __all__ = ["dump_design"]
 
 _BARE = re.compile(r"^[A-Za-z0-9_-]+$")
-_TABLE_OF = {
-    Resistor: "resistors",
-    Capacitor: "capacitors",
-    Inductor: "inductors",
-    VoltageSource: "voltage-sources",
-    CurrentSource: "current-sources",
-}
 #: A number as format_number writes it, split into mantissa and SI prefix.
 _PREFIXED = re.compile(r"^(-?[0-9.]+(?:e-?[0-9]+)?)([yzafpnumkMGT]?)$")
 
@@ -115,7 +115,6 @@ def dump_design(
     if out is None:
         raise DesignFileError("dump_design: give the output node, e.g. output='out'")
     nominal: dict[str, sp.Expr] = dict(base.values) if base else {}
-    from ..model.circuit import to_exact
 
     for key, v in (values or {}).items():
         name = key.name if isinstance(key, sp.Symbol) else str(key)
@@ -151,10 +150,10 @@ class _Writer:
             self.key("input", b.signal)
         if b and b.supply is not None:
             self.key("rails", _rails(b.supply))
-        for cls, table in _TABLE_OF.items():
+        for cls in TWO_TERMINALS:
             rows = [e for e in self.circuit.elements if type(e) is cls]
             if rows:
-                self.lines += ["", f"[{table}]"]
+                self.lines += ["", f"[{cls.table}]"]
                 for e in rows:
                     self.lines.append(f"{_key(e.name)} = {_inline(self.two_terminal(e))}")
         for amp in self.circuit.opamps:
@@ -163,7 +162,7 @@ class _Writer:
         if unplaced:
             raise DesignFileError(
                 f"dump_design: no place for the values of {', '.join(unplaced)}; design files "
-                f"hold numbers of elements and each op-amp's {', '.join(OPAMP_VALUES)}"
+                f"hold numbers of elements and each op-amp's {', '.join(opamp_values())}"
             )
         if b:
             self.settings(b)
@@ -226,7 +225,7 @@ class _Writer:
             kinds.append(n.kind)
         if kinds != list(DEFAULT_INCLUDE):
             self.key("include", kinds)
-        for what, (unit, _needs) in OPAMP_VALUES.items():
+        for what, (unit, _needs) in opamp_values().items():
             name = f"{amp.name}.{what}"
             if name in self.nominal:
                 text = _text(self.nominal[name], name)
@@ -335,9 +334,9 @@ def _parameter_fields(p: OpAmpParams) -> dict[str, Any]:
     out: dict[str, Any] = {"name": p.name}
     if p.description:
         out["description"] = p.description
-    for key in PARAMETER_UNITS:
-        v = getattr(p, key)
-        if v is not None and v != getattr(default, key):
+    for key in field_units():
+        v = p.extra.get(key) if key in p.extra else getattr(p, key, None)
+        if v is not None and v != getattr(default, key, None):
             if not math.isfinite(v):
                 raise DesignFileError(f"dump_design: {p.name} {key} = {v} cannot be written")
             out[key] = float(v)

@@ -20,15 +20,13 @@ Eq(R3, R1*R2/(R1 + R2))
 
 from __future__ import annotations
 
-import math
 import re
 from collections.abc import Iterable, Mapping
-from fractions import Fraction
-from numbers import Real
 from typing import TYPE_CHECKING, Any
 
 import sympy as sp
 
+from .._services import call
 from ..errors import (
     ArgumentTypeError,
     CircuitError,
@@ -46,7 +44,7 @@ from .elements import (
     Resistor,
     VoltageSource,
 )
-from .limits import MAX_ELEMENTS, check_float, check_magnitude, expect_text, shown
+from .limits import MAX_ELEMENTS, exact_value, expect_text, shown
 from .naming import check_names
 from .nonideal import KINDS, NonIdeal, SinglePole
 from .symbols import LAPLACE, OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
@@ -55,7 +53,7 @@ if TYPE_CHECKING:
     from ..analyses.noise import NoiseResult
     from ..analyses.result import Result
 
-__all__ = ["GROUND", "Circuit", "to_exact"]
+__all__ = ["GROUND", "Circuit"]
 
 #: The ground node's name; "gnd" (any case) is accepted as an alias.
 GROUND = "0"
@@ -63,73 +61,10 @@ _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
 _NODE = re.compile(r"^[A-Za-z0-9_][A-Za-z0-9_+\-]*$")
 
 
-def to_exact(value: Any, where: str, *, unit: str | None = None) -> sp.Expr:
-    """Turn a user number or expression into an exact SymPy value.
-
-    Floats become the exact rational of their shortest decimal form
-    (``0.1`` → ``1/10``), so the algebra stays exact; text goes through the
-    whitelist value parser :func:`opsym.io.values.parse_value` (``"10k"``),
-    the one reader of values in opsym, which checks a unit written in the
-    text against ``unit`` when given (``"Ω"``, ``"F"``…). ``where`` names the
-    field for messages. Every number must lie within the limits of
-    :mod:`opsym.model.limits`.
-
-    Examples
-    --------
-    >>> to_exact(4.7e-9, "C1")
-    47/10000000000
-    >>> to_exact("10k", "R1")
-    10000
-    """
-    exact = _exact(value, where, unit)
-    return check_magnitude(exact, where) if isinstance(exact, sp.Number) else exact
-
-
-def _exact(value: Any, where: str, unit: str | None) -> sp.Expr:
-    if isinstance(value, bool) or value is None:
-        raise InvalidValueError(f"{where}: {value!r} is not a value; give a number or expression")
-    if isinstance(value, str):
-        from ..io.values import parse_value  # the whitelist parser, never sympify
-
-        return parse_value(value, where=where, unit=unit)
-    if isinstance(value, sp.Basic):
-        if not isinstance(value, sp.Expr):
-            raise InvalidValueError(f"{where}: {value!r} is not an expression")
-        if value.has(sp.nan, sp.zoo, sp.oo, -sp.oo):
-            raise InvalidValueError(f"{where}: value {value} is not finite; give a finite value")
-        if isinstance(value, sp.Float):
-            return sp.Rational(repr(check_float(value, where)))
-        return value
-    if isinstance(value, int):
-        return sp.Integer(value)
-    if isinstance(value, Fraction):
-        return sp.Rational(value.numerator, value.denominator)
-    if isinstance(value, Real):  # float, numpy scalars
-        x = float(value)
-        if not math.isfinite(x):
-            raise InvalidValueError(f"{where}: value {x} is not finite; give a finite number")
-        return sp.Rational(repr(x))
-    raise InvalidValueError(
-        f"{where}: cannot use a {type(value).__name__} as a value; "
-        "give a number, a SymPy expression or text such as '10k'"
-    )
-
-
-#: The unit each element kind's value is in (text with another unit is refused).
-UNITS = {
-    "resistor": "Ω",
-    "capacitor": "F",
-    "inductor": "H",
-    "voltage source": "V",
-    "current source": "A",
-    "op-amp gain": "ratio",
-}
-
-
-def _positive_value(value: Any, name: str, kind: str) -> sp.Expr:
+def _positive_value(value: Any, name: str, kind: str, unit: str) -> sp.Expr:
     if value is None:
         return component_symbol(name)
-    v = to_exact(value, f"{kind} {name}", unit=UNITS.get(kind))
+    v = exact_value(value, f"{kind} {name}", unit)
     if v.is_number:
         if v.is_zero:
             hint = " (for a wire, give both ends the same node name)" if kind == "resistor" else ""
@@ -170,19 +105,20 @@ class Circuit:
         """Add a resistor between nodes ``a`` and ``b``; ``None`` keeps it symbolic."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(Resistor(name, na, nb, _positive_value(value, name, "resistor")))
+        self._add(Resistor(name, na, nb, _positive_value(value, name, "resistor", Resistor.unit)))
 
     def capacitor(self, name: str, a: str, b: str, value: Any = None) -> None:
         """Add a capacitor: open at DC, admittance ``s·C`` in the s domain."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(Capacitor(name, na, nb, _positive_value(value, name, "capacitor")))
+        value = _positive_value(value, name, "capacitor", Capacitor.unit)
+        self._add(Capacitor(name, na, nb, value))
 
     def inductor(self, name: str, a: str, b: str, value: Any = None) -> None:
         """Add an inductor: a wire at DC, impedance ``s·L`` in the s domain."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(Inductor(name, na, nb, _positive_value(value, name, "inductor")))
+        self._add(Inductor(name, na, nb, _positive_value(value, name, "inductor", Inductor.unit)))
 
     def voltage_source(self, name: str, plus: str, minus: str, value: Any = None) -> None:
         """Add a signal voltage source, ``V(plus) - V(minus) = value``."""
@@ -252,7 +188,7 @@ class Circuit:
             )
         else:  # a number, an expression or text such as "100k"
             try:
-                a = _positive_value(gain, name + ".A", "op-amp gain")
+                a = _positive_value(gain, name + ".A", "op-amp gain", "ratio")
             except ValueSyntaxError as err:
                 raise InvalidValueError(
                     f"op-amp {name}: gain {gain!r} is not 'ideal', 'finite', 'pole' or a number "
@@ -437,9 +373,7 @@ class Circuit:
         >>> c.analyze("out", domain="s").coefficient("Vin")
         1/(C1*R1*s + 1)
         """
-        from ..analyses.derive import derive
-
-        return derive(self, output, values=values, progress=progress, domain=domain)
+        return call("derive", self, output, values=values, progress=progress, domain=domain)
 
     def noise(
         self,
@@ -479,8 +413,6 @@ class Circuit:
         >>> round(float(n.density(1000.0)) * 1e9, 3)  # nV/√Hz: 4kTR at 298.15 K
         12.832
         """
-        from ..analyses.noise import noise
-
         merged: dict[Any, Any] = {}
         for name, params in (opamps or {}).items():
             if not hasattr(params, "values_for"):
@@ -493,7 +425,8 @@ class Circuit:
             merged.update(params.values_for(name, "typical"))
         for key, value in (values or {}).items():
             merged[key.name if isinstance(key, sp.Symbol) else key] = value
-        return noise(self, output, values=merged, temperature=temperature, progress=progress)
+        return call("noise", self, output, values=merged, temperature=temperature,
+                    progress=progress)  # fmt: skip
 
     def __repr__(self) -> str:
         return f"Circuit({self.title!r}, {len(self._elements)} elements)"
@@ -533,9 +466,10 @@ class Circuit:
         return tuple(out)
 
     def _source_value(self, name: str, value: Any, kind: str) -> sp.Expr:
+        unit = VoltageSource.unit if kind == "voltage source" else CurrentSource.unit
         if value is None:
             return source_symbol(name)
-        return to_exact(value, f"{kind} {name}", unit=UNITS[kind])
+        return exact_value(value, f"{kind} {name}", unit)
 
     def _add(self, element: Element) -> None:
         if len(self._elements) >= MAX_ELEMENTS:

@@ -11,12 +11,14 @@ Resistor(name='R1', a='in', b='n', value=1000)
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import ClassVar
 
 import sympy as sp
 
 from .nonideal import NonIdeal
 
 __all__ = [
+    "TWO_TERMINALS",
     "Capacitor",
     "CurrentSource",
     "Element",
@@ -32,6 +34,11 @@ class Element:
     """Common base: every element has a unique name."""
 
     name: str
+
+    #: The unit of its value as opsym writes it ("" for an op-amp, which has none).
+    unit: ClassVar[str] = ""
+    #: The design-file table that lists elements of this class.
+    table: ClassVar[str] = ""
 
     @property
     def nodes(self) -> tuple[str, ...]:
@@ -65,25 +72,40 @@ class TwoTerminal(Element):
 class Resistor(TwoTerminal):
     """A resistor; ``value`` in ohms."""
 
+    unit = "Ω"
+    table = "resistors"
+
 
 @dataclass(frozen=True)
 class Capacitor(TwoTerminal):
     """A capacitor; ``value`` in farads. Open at DC, admittance ``s·C`` in the s domain."""
+
+    unit = "F"
+    table = "capacitors"
 
 
 @dataclass(frozen=True)
 class Inductor(TwoTerminal):
     """An inductor; ``value`` in henries. A wire at DC, impedance ``s·L`` in the s domain."""
 
+    unit = "H"
+    table = "inductors"
+
 
 @dataclass(frozen=True)
 class VoltageSource(TwoTerminal):
     """An independent voltage source: ``V(a) - V(b) = value`` (``a`` is the plus node)."""
 
+    unit = "V"
+    table = "voltage-sources"
+
 
 @dataclass(frozen=True)
 class CurrentSource(TwoTerminal):
     """An independent current source: ``value`` amperes flow through it from ``a`` into ``b``."""
+
+    unit = "A"
+    table = "current-sources"
 
 
 @dataclass(frozen=True)
@@ -94,6 +116,8 @@ class OpAmp(Element):
     expression (``Vout = A·(V+ − V-)``). ``nonideals`` are the error sources it
     carries.
     """
+
+    table: ClassVar[str] = "opamps"
 
     plus: str
     minus: str
@@ -121,3 +145,8 @@ _KIND_NAMES = {
     CurrentSource: "current source",
     OpAmp: "op-amp",
 }
+
+#: The two-terminal element classes, in the order files list them.
+TWO_TERMINALS: tuple[type[TwoTerminal], ...] = (
+    Resistor, Capacitor, Inductor, VoltageSource, CurrentSource,
+)  # fmt: skip

@@ -12,10 +12,10 @@ Examples
 --------
 >>> import sympy as sp
 >>> from opsym.model.limits import check_magnitude, expect_mapping
->>> check_magnitude(sp.Integer(10) ** 40, "resistor R1")  # doctest: +ELLIPSIS
+>>> check_magnitude(sp.Integer(10) ** 200, "resistor R1")  # doctest: +ELLIPSIS
 Traceback (most recent call last):
 ...
-opsym.errors.InvalidValueError: resistor R1: the number 1.000e+40 is out of range; ...
+opsym.errors.InvalidValueError: resistor R1: the number 1.000e+200 is out of range; ...
 >>> expect_mapping(["R1", 1], "values")  # doctest: +ELLIPSIS
 Traceback (most recent call last):
 ...
@@ -29,32 +29,36 @@ from collections.abc import Mapping
 from numbers import Real
 from typing import Any
 
+import numpy as np
 import sympy as sp
 
 from ..errors import ArgumentTypeError, InvalidValueError
+from ..values import to_exact
 
 __all__ = [
     "MAX_ELEMENTS",
     "MAX_MAGNITUDE",
     "MIN_MAGNITUDE",
+    "admissible",
     "check_band",
     "check_float",
     "check_frequencies",
     "check_magnitude",
+    "exact_value",
     "expect_mapping",
     "expect_text",
-    "read_number",
     "shown",
 ]
 
-#: Largest magnitude of any number given (1e30: above every SI prefix, yotta is 1e24).
-MAX_MAGNITUDE = sp.Integer(10) ** 30
-#: Smallest magnitude of a non-zero number given (1e-30: below yocto, 1e-24).
-MIN_MAGNITUDE = sp.Integer(10) ** -30
+#: Largest magnitude of any number given: 1e150, as for values written as text
+#: (:mod:`opsym.values`), so that floats computed from it stay finite.
+MAX_MAGNITUDE = sp.Integer(10) ** 150
+#: Smallest magnitude of a non-zero number given (1e-150).
+MIN_MAGNITUDE = sp.Integer(10) ** -150
 #: Most elements one circuit may hold.
 MAX_ELEMENTS = 2000
 
-_RANGE = "numbers must lie within 1e-30 ... 1e30 in magnitude (or be 0)"
+_RANGE = "numbers must lie within 1e-150 ... 1e150 in magnitude (or be 0)"
 
 
 def check_magnitude(value: sp.Expr, where: str) -> sp.Expr:
@@ -76,6 +80,23 @@ def check_magnitude(value: sp.Expr, where: str) -> sp.Expr:
     return value
 
 
+def exact_value(value: Any, where: str, unit: str | None = None) -> sp.Expr:
+    """:func:`opsym.values.to_exact` with the number limits: the reader of every user value.
+
+    Examples
+    --------
+    >>> exact_value("4.7 nF", "C1", "F")
+    47/10000000000
+    >>> exact_value(sp.Float("1e400"), "C1")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    opsym.errors.InvalidValueError: C1: the number about 1e400 is out of range; ...
+    """
+    if isinstance(value, (float, sp.Float)):
+        check_float(value, where)  # before an infinite float reaches the exact form
+    return check_magnitude(to_exact(value, where, unit=unit), where)
+
+
 def check_float(value: Any, where: str) -> float:
     """Return ``value`` as a finite float within the limits; else raise.
 
@@ -93,7 +114,7 @@ def check_float(value: Any, where: str) -> float:
         x = float(value)
     except (OverflowError, TypeError, ValueError):  # huge, or sympy's complex infinity
         x = math.inf
-    if not math.isfinite(x) or (x != 0 and not 1e-30 <= abs(x) <= 1e30):
+    if not math.isfinite(x) or (x != 0 and not 1e-150 <= abs(x) <= 1e150):
         raise InvalidValueError(f"{where}: the number {_sci(value)} is out of range; {_RANGE}")
     return x
 
@@ -113,8 +134,6 @@ def check_frequencies(f: Any, where: str) -> Any:
     ...
     opsym.errors.ArgumentTypeError: response f: expected frequencies in Hz as numbers ...
     """
-    import numpy as np
-
     if isinstance(f, (str, bytes, bool)) or f is None:
         raise ArgumentTypeError(
             f"{where}: expected frequencies in Hz as numbers (a number or an array), not "
@@ -160,6 +179,39 @@ def _is_inf(x: Any) -> bool:
         return False
 
 
+def admissible(circuit: Any, sym: sp.Symbol, v: sp.Expr, where: str) -> sp.Expr:
+    """Return ``v`` if it can be the value of ``sym``; else say what ``sym`` needs.
+
+    A component value (R, C, L), gain, GBW are positive; densities and corners
+    are not negative; CMRR and PSRR are not zero. ``circuit`` names the element.
+
+    Examples
+    --------
+    >>> import opsym
+    >>> c = opsym.Circuit("t")
+    >>> c.resistor("R1", "a", "0")
+    >>> admissible(c, c.symbol("R1"), sp.Integer(-5), "subs")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    opsym.errors.InvalidValueError: subs[R1] = -5: resistor R1 must be positive; ...
+    """
+    rules = [
+        (sym.is_positive, v.is_positive, "must be positive"),
+        (sym.is_nonnegative, v.is_nonnegative, "must not be negative"),
+        (sym.is_nonzero, v.is_nonzero, "must not be zero"),
+        (sym.is_real, v.is_real, "must be real"),
+    ]
+    for needed, holds, what in rules:
+        if needed and holds is False:
+            owner = sym.name.partition(".")[0]
+            element = {e.name: e for e in circuit.elements}.get(owner)
+            named = f"{element.kind} {sym.name}" if element is not None else sym.name
+            raise InvalidValueError(
+                f"{where}[{sym.name}] = {v}: {named} {what}; give a physical value"
+            )
+    return v
+
+
 def expect_mapping(value: Any, where: str, example: str = "{'R1': '10k'}") -> Mapping:
     """Return ``value`` if it is a mapping (``None`` gives an empty one); else raise."""
     if value is None:
@@ -195,21 +247,6 @@ def _sci(x: Any) -> str:
         return f"about 1e{digits}"
     except (TypeError, ValueError):
         return "a number"
-
-
-def read_number(value: Any, where: str, unit: str | None = None) -> float:
-    """A number, or text such as ``"10k"`` read by :func:`~opsym.parse_quantity`, in range.
-
-    Examples
-    --------
-    >>> read_number("4k7", "R1", "Ω"), read_number(2, "gain")
-    (4700.0, 2.0)
-    """
-    if isinstance(value, (Real, sp.Number)) and not isinstance(value, bool):
-        return check_float(value, where)
-    from ..numeric.units import parse_quantity
-
-    return check_float(parse_quantity(value, unit, where=where), where)
 
 
 def shown(value: Any) -> str:

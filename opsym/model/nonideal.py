@@ -33,23 +33,28 @@ from __future__ import annotations
 
 from abc import ABC, abstractmethod
 from dataclasses import dataclass
+from typing import ClassVar
 
 import sympy as sp
 
-from .symbols import opamp_symbol
+from ..errors import DuplicateNameError
+from .symbols import LAPLACE, SymbolSpec, opamp_symbol, register_symbols
 
 __all__ = [
+    "KINDS",
     "BiasCurrents",
     "CommonModeRejection",
     "CurrentNoise",
     "InputOffset",
     "NoiseSpectrum",
     "NonIdeal",
+    "PinAdmittance",
     "PinCurrent",
     "SeriesVoltage",
     "SinglePole",
     "SupplyRejection",
     "VoltageNoise",
+    "kind_of",
 ]
 
 
@@ -70,6 +75,25 @@ class PinCurrent:
 
 
 @dataclass(frozen=True)
+class PinAdmittance:
+    """An admittance ``admittance`` (siemens) between two terminals of the op-amp.
+
+    ``a`` and ``b`` are ``"plus"``, ``"minus"``, ``"out"`` or ``"ground"``: a
+    differential input resistance ``Rid`` is ``PinAdmittance("plus", "minus",
+    1/Rid)``. It adds no source: an impedance changes the terms, not their list.
+    """
+
+    a: str
+    b: str
+    admittance: sp.Expr
+
+    def __post_init__(self) -> None:
+        for pin in (self.a, self.b):
+            if pin not in ("plus", "minus", "out", "ground"):
+                raise ValueError(f"PinAdmittance: {pin!r} is not plus, minus, out or ground")
+
+
+@dataclass(frozen=True)
 class NoiseSpectrum:
     """A noise source's power density ``density²·(1 + corner/f)`` (per hertz).
 
@@ -83,20 +107,61 @@ class NoiseSpectrum:
     corner: sp.Expr
 
 
+_POSITIVE = (("positive", True),)
+#: The gain models' symbols: the finite gain ``A`` and the single pole's ``A0``, ``GBW``.
+register_symbols(
+    SymbolSpec("A", "", "A", "open-loop gain A", _POSITIVE, datasheet="a", role="parameter"),
+    SymbolSpec("A0", "", r"A_{0}", "DC open-loop gain A0", _POSITIVE, datasheet="a",
+               file_value=True, role="parameter"),
+    SymbolSpec("GBW", "Hz", r"\mathrm{GBW}", "gain-bandwidth product GBW", _POSITIVE,
+               datasheet="gbw", file_value=True, role="parameter"),
+)  # fmt: skip
+
+
+#: Every kind, by its key, in the order they were defined (results list them so);
+#: each :class:`NonIdeal` subclass with a ``kind`` adds itself.
+KINDS: dict[str, type[NonIdeal]] = {}
+
+
 class NonIdeal(ABC):
-    """Base of every non-ideal source an op-amp can carry."""
+    """Base of every non-ideal source an op-amp can carry.
+
+    A subclass declares its facts once and registers itself when it is defined:
+    ``kind`` (the key of ``include`` lists and :data:`KINDS`), ``symbols`` (a
+    :class:`~opsym.model.symbols.SymbolSpec` for each symbol it adds, sources
+    and parameters alike) and ``convention`` (the sentence that states its sign
+    convention in notes). Every layer — design files, budgets, notes, LaTeX —
+    reads those facts from the registry, so a new kind is one class.
+    """
 
     #: Short key used in ``OpAmp.nonideals`` and design files.
-    kind: str = ""
+    kind: ClassVar[str] = ""
     #: Noise kinds are random: they enter only the noise analysis, in power.
-    noise: bool = False
+    noise: ClassVar[bool] = False
+    #: What each of its symbols is (suffix, unit, LaTeX, words, datasheet field, ...).
+    symbols: ClassVar[tuple[SymbolSpec, ...]] = ()
+    #: Its sign convention in one sentence, for notes and docs.
+    convention: ClassVar[str] = ""
+
+    def __init_subclass__(cls, **kwargs: object) -> None:
+        super().__init_subclass__(**kwargs)
+        if not cls.kind:
+            return  # an abstract helper class, not a kind
+        known = KINDS.get(cls.kind)
+        if known is not None and known.__qualname__ != cls.__qualname__:
+            raise DuplicateNameError(
+                f"non-ideality kind {cls.kind!r} is already {known.__name__}; "
+                f"give {cls.__name__} another kind"
+            )
+        register_symbols(*cls.symbols)
+        KINDS[cls.kind] = cls
 
     @abstractmethod
     def sources(self, opamp: str) -> tuple[sp.Symbol, ...]:
         """Independent source symbols this non-ideality adds to op-amp ``opamp``."""
 
     @abstractmethod
-    def injections(self, opamp: str) -> tuple[SeriesVoltage | PinCurrent, ...]:
+    def injections(self, opamp: str) -> tuple[SeriesVoltage | PinCurrent | PinAdmittance, ...]:
         """Where each source acts on op-amp ``opamp``."""
 
     def parameters(self, opamp: str) -> tuple[sp.Symbol, ...]:
@@ -125,6 +190,8 @@ class InputOffset(NonIdeal):
     """Input offset voltage ``Vos``, in series with the ``+`` pin."""
 
     kind = "offset"
+    symbols = (SymbolSpec("Vos", "V", r"V_{\mathrm{OS}}", "offset voltage Vos", datasheet="vos"),)
+    convention = "Vos is a source in series with the + pin."
 
     def sources(self, opamp):
         return (opamp_symbol(opamp, "Vos"),)
@@ -137,6 +204,17 @@ class BiasCurrents(NonIdeal):
     """Input bias currents ``Ib+`` and ``Ib-``, positive into the pins."""
 
     kind = "bias"
+    symbols = (
+        SymbolSpec("Ib+", "A", r"I_{\mathrm{B+}}", "bias current Ib+", signed=True,
+                   datasheet="ib"),
+        SymbolSpec("Ib-", "A", r"I_{\mathrm{B-}}", "bias current Ib-", signed=True,
+                   datasheet="ib"),
+        # the pair as results report it: Ib = (Ib+ + Ib-)/2, Ios = Ib+ - Ib-
+        SymbolSpec("Ib", "A", r"I_{\mathrm{B}}", "bias current Ib", signed=True,
+                   datasheet="ib"),
+        SymbolSpec("Ios", "A", r"I_{\mathrm{OS}}", "offset current Ios", datasheet="ios"),
+    )  # fmt: skip
+    convention = "Ib+ and Ib- flow into the pins; Ib = (Ib+ + Ib-)/2 and Ios = Ib+ - Ib-."
 
     def sources(self, opamp):
         return (opamp_symbol(opamp, "Ib+"), opamp_symbol(opamp, "Ib-"))
@@ -150,6 +228,14 @@ class CommonModeRejection(NonIdeal):
     """Finite CMRR: ``Vcm/CMRR`` in series with the ``+`` pin."""
 
     kind = "cmrr"
+    symbols = (
+        SymbolSpec("Vcm", "V", r"V_{\mathrm{CM}}", "common mode Vcm/CMRR", file_value=True),
+        SymbolSpec("CMRR", "", r"\mathrm{CMRR}", "CMRR", (("real", True), ("nonzero", True)),
+                   datasheet="cmrr", role="parameter"),
+    )  # fmt: skip
+    convention = (
+        "The CMRR error is Vcm/CMRR in series with the + pin (Vcm at the pins, CMRR as V/V)."
+    )
 
     def sources(self, opamp):
         return (opamp_symbol(opamp, "Vcm"),)
@@ -165,6 +251,13 @@ class SupplyRejection(NonIdeal):
     """Finite PSRR: ``dVs/PSRR`` in series with the ``+`` pin (dVs: total span change)."""
 
     kind = "psrr"
+    symbols = (
+        SymbolSpec("dVs", "V", r"\Delta V_{\mathrm{S}}", "supply change dVs/PSRR",
+                   file_value=True),
+        SymbolSpec("PSRR", "", r"\mathrm{PSRR}", "PSRR", (("real", True), ("nonzero", True)),
+                   datasheet="psrr", role="parameter"),
+    )  # fmt: skip
+    convention = "The PSRR error is dVs/PSRR, dVs the change of the total supply span."
 
     def sources(self, opamp):
         return (opamp_symbol(opamp, "dVs"),)
@@ -181,6 +274,13 @@ class VoltageNoise(NonIdeal):
 
     kind = "vnoise"
     noise = True
+    symbols = (
+        SymbolSpec("en", "V/√Hz", r"e_{\mathrm{n}}", "voltage noise en",
+                   (("nonnegative", True),), datasheet="en", file_value=True),
+        SymbolSpec("fce", "Hz", r"f_{\mathrm{ce}}", "voltage-noise 1/f corner fce",
+                   (("nonnegative", True),), datasheet="fce", file_value=True, role="parameter"),
+    )  # fmt: skip
+    convention = "The voltage noise en is in series with the + pin."
 
     def sources(self, opamp):
         return (opamp_symbol(opamp, "en"),)
@@ -204,6 +304,17 @@ class CurrentNoise(NonIdeal):
 
     kind = "inoise"
     noise = True
+    symbols = (
+        SymbolSpec("in+", "A/√Hz", r"i_{\mathrm{n+}}", "current noise in+",
+                   (("nonnegative", True),)),
+        SymbolSpec("in-", "A/√Hz", r"i_{\mathrm{n-}}", "current noise in-",
+                   (("nonnegative", True),)),
+        SymbolSpec("in", "A/√Hz", r"i_{\mathrm{n}}", "current noise in",
+                   (("nonnegative", True),), datasheet="in", file_value=True, role="parameter"),
+        SymbolSpec("fci", "Hz", r"f_{\mathrm{ci}}", "current-noise 1/f corner fci",
+                   (("nonnegative", True),), datasheet="fci", file_value=True, role="parameter"),
+    )  # fmt: skip
+    convention = "The current noises in+ and in- flow into the pins, uncorrelated."
 
     def sources(self, opamp):
         return (opamp_symbol(opamp, "in+"), opamp_symbol(opamp, "in-"))
@@ -218,6 +329,8 @@ class CurrentNoise(NonIdeal):
     def spectra(self, opamp):
         density, corner = self.parameters(opamp)
         return tuple(NoiseSpectrum(s, density, corner) for s in self.sources(opamp))
+
+
 
 
 class SinglePole:
@@ -244,7 +357,6 @@ class SinglePole:
 
     def gain(self, opamp: str) -> sp.Expr:
         """The open-loop gain ``A(s)`` of op-amp ``opamp``."""
-        from .symbols import LAPLACE
 
         a0, gbw = self.parameters(opamp)
         return 2 * sp.pi * gbw * a0 / (2 * sp.pi * gbw + a0 * LAPLACE)
@@ -253,15 +365,15 @@ class SinglePole:
         return "SinglePole()"
 
 
-#: Every kind, by its key, in the order results list them.
-KINDS: dict[str, type[NonIdeal]] = {
-    cls.kind: cls
-    for cls in (
-        InputOffset,
-        BiasCurrents,
-        CommonModeRejection,
-        SupplyRejection,
-        VoltageNoise,
-        CurrentNoise,
-    )
-}
+def kind_of(suffix: str) -> str | None:
+    """The key of the kind, or gain model, that declares the op-amp symbol ``suffix``.
+
+    Examples
+    --------
+    >>> kind_of("Vcm"), kind_of("GBW"), kind_of("A"), kind_of("R1")
+    ('cmrr', 'pole', 'finite', None)
+    """
+    for key, kind in KINDS.items():
+        if any(spec.suffix == suffix for spec in kind.symbols):
+            return key
+    return {"A": "finite", "A0": SinglePole.kind, "GBW": SinglePole.kind}.get(suffix)

@@ -20,63 +20,112 @@ U1.Vos
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import sympy as sp
+
+from ..errors import DuplicateNameError
 
 __all__ = [
     "LAPLACE",
     "OPAMP_PARAMETERS",
+    "SYMBOLS",
+    "SymbolSpec",
     "component_symbol",
     "latex_name",
     "opamp_symbol",
+    "register_symbols",
     "thermal_symbol",
 ]
 
 #: The Laplace variable of the ``domain="s"`` analyses (complex: ``s = j·2π·f``).
 LAPLACE = sp.Symbol("s")
 
-#: Op-amp symbol suffixes and the assumptions of each. Error sources are real
-#: with unknown sign; gain is positive; CMRR and PSRR are signed ratios (V/V).
-OPAMP_PARAMETERS: dict[str, dict[str, bool]] = {
-    "Vos": {"real": True},
-    "Ib+": {"real": True},
-    "Ib-": {"real": True},
-    "Ib": {"real": True},
-    "Ios": {"real": True},
-    "A": {"positive": True},
-    "CMRR": {"real": True, "nonzero": True},
-    "Vcm": {"real": True},
-    "PSRR": {"real": True, "nonzero": True},
-    "dVs": {"real": True},
-    "A0": {"positive": True},
-    "GBW": {"positive": True},
-    "en": {"nonnegative": True},
-    "in+": {"nonnegative": True},
-    "in-": {"nonnegative": True},
-    "in": {"nonnegative": True},
-    "fce": {"nonnegative": True},
-    "fci": {"nonnegative": True},
-}
 
-_LATEX = {
-    "Vos": r"V_{\mathrm{OS}}",
-    "Ib+": r"I_{\mathrm{B+}}",
-    "Ib-": r"I_{\mathrm{B-}}",
-    "Ib": r"I_{\mathrm{B}}",
-    "Ios": r"I_{\mathrm{OS}}",
-    "A": r"A",
-    "CMRR": r"\mathrm{CMRR}",
-    "Vcm": r"V_{\mathrm{CM}}",
-    "PSRR": r"\mathrm{PSRR}",
-    "dVs": r"\Delta V_{\mathrm{S}}",
-    "A0": r"A_{0}",
-    "GBW": r"\mathrm{GBW}",
-    "en": r"e_{\mathrm{n}}",
-    "in+": r"i_{\mathrm{n+}}",
-    "in-": r"i_{\mathrm{n-}}",
-    "in": r"i_{\mathrm{n}}",
-    "fce": r"f_{\mathrm{ce}}",
-    "fci": r"f_{\mathrm{ci}}",
-}
+@dataclass(frozen=True)
+class SymbolSpec:
+    """What one op-amp symbol ``<op-amp>.<suffix>`` is, declared once.
+
+    Every layer reads these facts from here: the symbol's assumptions, its
+    LaTeX, its unit and words in tables and notes, whether a parameter set gives
+    its sign, which parameter-set fields hold its number and whether an op-amp
+    table of a design file may give that number.
+
+    Attributes
+    ----------
+    suffix : str
+        The part after the dot: ``"Vos"`` in ``U1.Vos``.
+    unit : str
+        Its unit as opsym writes it (``"V"``, ``"A"``, ``"Hz"``, ``"V/√Hz"``;
+        ``""`` for a ratio).
+    latex : str
+        The trade's LaTeX, without the op-amp tag (``V_{\\mathrm{OS}}``).
+    words : str
+        What a table calls it (``"offset voltage Vos"``).
+    assumptions : tuple of (str, bool)
+        SymPy assumptions of the symbol; error sources are real with unknown sign.
+    signed : bool
+        ``True`` when the parameter set gives the sign (bias currents); otherwise
+        the budget takes the value as a ± limit.
+    datasheet : str or None
+        The stem of the parameter-set fields that hold its number:
+        ``"vos"`` reads ``vos_typ``/``vos_max``. ``None``: no set gives it.
+    file_value : bool
+        ``True`` when an op-amp table of a design file may give its number
+        (``Vcm = "2.5 V"``).
+    role : {"source", "parameter"}
+        A source is a term of the superposition (``Vos``, ``Ib``); a parameter
+        scales terms (``CMRR``, ``A``, a noise corner).
+
+    Examples
+    --------
+    >>> SYMBOLS["Vos"].unit, SYMBOLS["Vos"].datasheet
+    ('V', 'vos')
+    """
+
+    suffix: str
+    unit: str
+    latex: str
+    words: str
+    assumptions: tuple[tuple[str, bool], ...] = (("real", True),)
+    signed: bool = False
+    datasheet: str | None = None
+    file_value: bool = False
+    role: str = "source"
+
+    def __post_init__(self) -> None:
+        if self.role not in ("source", "parameter"):
+            raise ValueError(f"SymbolSpec {self.suffix!r}: role must be 'source' or 'parameter'")
+
+    def symbol(self, opamp: str) -> sp.Symbol:
+        """The symbol ``<opamp>.<suffix>`` with this spec's assumptions."""
+        return sp.Symbol(f"{opamp}.{self.suffix}", **dict(self.assumptions))
+
+
+#: Every op-amp symbol opsym knows, by suffix, filled by :func:`register_symbols`
+#: (the kinds of :mod:`opsym.model.nonideal` register theirs when defined).
+SYMBOLS: dict[str, SymbolSpec] = {}
+#: Op-amp symbol suffixes and the assumptions of each, kept in step with SYMBOLS.
+OPAMP_PARAMETERS: dict[str, dict[str, bool]] = {}
+
+
+def register_symbols(*specs: SymbolSpec) -> None:
+    """Make ``specs`` known to every layer; a suffix may be declared only once.
+
+    Raises
+    ------
+    DuplicateNameError
+        If another spec already uses one of the suffixes with other facts.
+    """
+    for spec in specs:
+        known = SYMBOLS.get(spec.suffix)
+        if known is not None and known != spec:
+            raise DuplicateNameError(
+                f"op-amp symbol suffix {spec.suffix!r} is declared twice with different "
+                "facts; choose another suffix for the new kind"
+            )
+        SYMBOLS[spec.suffix] = spec
+        OPAMP_PARAMETERS[spec.suffix] = dict(spec.assumptions)
 
 
 def component_symbol(name: str) -> sp.Symbol:
@@ -91,7 +140,10 @@ def source_symbol(name: str) -> sp.Symbol:
 
 def opamp_symbol(opamp: str, what: str) -> sp.Symbol:
     """Return the symbol ``<opamp>.<what>``, e.g. ``U1.Vos``."""
-    return sp.Symbol(f"{opamp}.{what}", **OPAMP_PARAMETERS[what])
+    spec = SYMBOLS.get(what)
+    if spec is not None:
+        return spec.symbol(opamp)
+    return sp.Symbol(f"{opamp}.{what}", **OPAMP_PARAMETERS[what])  # assumptions only
 
 
 def thermal_symbol(resistor: str) -> sp.Symbol:
@@ -110,8 +162,8 @@ def latex_name(symbol: sp.Symbol) -> str:
     'R_{2}'
     """
     owner, dot, what = symbol.name.partition(".")
-    if dot and what in _LATEX:
-        base = _LATEX[what]
+    if dot and what in SYMBOLS:
+        base = SYMBOLS[what].latex
         tag = r"\mathrm{" + owner.replace("_", r"\_") + "}"
         if base.endswith("}") and "_{" in base:
             return base[:-1] + "," + tag + "}"

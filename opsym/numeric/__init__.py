@@ -1,10 +1,12 @@
 """Numbers in the closed forms: error budgets, temperature, tolerances, preferred values.
 
-One topic per module: :mod:`~opsym.numeric.units` (SI notation in and out),
+One topic per module: :mod:`~opsym.numeric.units` (SI notation),
 :mod:`~opsym.numeric.eseries` (IEC 60063 tables), :mod:`~opsym.numeric.params`
 (op-amp and resistor parameter sets), :mod:`~opsym.numeric.adc` (LSB and ppm),
-:mod:`~opsym.numeric.budget`, :mod:`~opsym.numeric.temperature` and
-:mod:`~opsym.numeric.tolerance`. The rules they follow are in ``docs/budget.md``.
+:mod:`~opsym.numeric.frequency` (closed forms evaluated over frequency, band
+integrals) and the private kernels behind the studies of :mod:`opsym.study`
+(exact values in, compiled coefficients, tolerance corners). Nothing here
+knows of results or renders text.
 
 Examples
 --------
@@ -14,7 +16,6 @@ Examples
 """
 
 from .adc import ADC, LSB_RULE
-from .budget import RSS_RULE, WORST_CASE_RULE, Budget, BudgetRow, error_budget
 from .eseries import SERIES, NullChoice, choose_for_null, preferred_value, series_values
 from .params import (
     OPAMP_SETS,
@@ -25,15 +26,6 @@ from .params import (
     opamp_parameters,
     resistor_parameters,
 )
-from .temperature import TemperatureSweep, budget_over_temperature
-from .tolerance import (
-    MonteCarlo,
-    ToleranceStudy,
-    corner_values,
-    first_order_bound,
-    monte_carlo,
-    tolerance_analysis,
-)
 from .units import db_to_ratio, format_si, parse_fraction, parse_quantity, ratio_to_db
 
 __all__ = [
@@ -41,26 +33,14 @@ __all__ = [
     "LSB_RULE",
     "OPAMP_SETS",
     "RESISTOR_SETS",
-    "RSS_RULE",
     "SERIES",
-    "WORST_CASE_RULE",
     "BiasLaw",
-    "Budget",
-    "BudgetRow",
-    "MonteCarlo",
     "NullChoice",
     "OpAmpParams",
     "ResistorParams",
-    "TemperatureSweep",
-    "ToleranceStudy",
-    "budget_over_temperature",
     "choose_for_null",
-    "corner_values",
     "db_to_ratio",
-    "error_budget",
-    "first_order_bound",
     "format_si",
-    "monte_carlo",
     "opamp_parameters",
     "parse_fraction",
     "parse_quantity",
@@ -68,5 +48,4 @@ __all__ = [
     "ratio_to_db",
     "resistor_parameters",
     "series_values",
-    "tolerance_analysis",
 ]

@@ -20,14 +20,29 @@ opsym.errors.BudgetError: error_budget values['R1'] = -1000: resistor R1 must be
 from __future__ import annotations
 
 from collections.abc import Mapping
+from numbers import Real
 from typing import Any
 
 import sympy as sp
 
 from ..errors import BudgetError, OpsymError
-from ..model.limits import expect_mapping, read_number
+from ..model.limits import admissible, check_float, expect_mapping, shown
+from .units import parse_quantity
 
-__all__ = ["check_values"]
+__all__ = ["check_values", "read_number"]
+
+
+def read_number(value: Any, where: str, unit: str | None = None) -> float:
+    """A number, or text such as ``"10k"`` read by :func:`~opsym.parse_quantity`, in range.
+
+    Examples
+    --------
+    >>> read_number("4k7", "R1", "Ω"), read_number(2, "gain")
+    (4700.0, 2.0)
+    """
+    if isinstance(value, (Real, sp.Number)) and not isinstance(value, bool):
+        return check_float(value, where)
+    return check_float(parse_quantity(value, unit, where=where), where)
 
 
 def check_values(values: Any, where: str, circuit: Any = None) -> Mapping:
@@ -35,7 +50,9 @@ def check_values(values: Any, where: str, circuit: Any = None) -> Mapping:
     values = expect_mapping(values, where)
     for key, raw in values.items():
         if not isinstance(key, (str, sp.Symbol)):
-            raise BudgetError(f"{where}: key {key!r} is not a name such as 'R1' or a symbol")
+            raise BudgetError(
+                f"{where}: key {shown(key)} is not a name such as 'R1' or a symbol"
+            )
         name = key.name if isinstance(key, sp.Symbol) else key
         field = f"{where}[{name!r}]"
         number = read_number(raw, field)
@@ -49,8 +66,6 @@ def _check_sign(circuit: Any, name: str, number: float, field: str) -> None:
         sym = circuit.symbol(name)
     except OpsymError:
         return  # not a circuit symbol: the study itself says so
-    from ..analyses.derive import admissible
-
     try:
         admissible(circuit, sym, sp.Float(number), "")
     except OpsymError as err:

@@ -44,7 +44,7 @@ from ..errors import BudgetError
 from ._numbers import Exact, compile_columns, exact_number, relative_sensitivities
 from .params import REFERENCE_TEMPERATURE
 
-MAX_CORNERS = 12  # as opsym.numeric.tolerance.MAX_CORNERS (not imported: no cycle)
+MAX_CORNERS = 12  # as opsym.study.tolerance.MAX_CORNERS (not imported: no cycle)
 #: A non-signal source whose coefficient is at most this fraction of the signal
 #: gain is one the network is built to reject: a common-mode input.
 REJECTED = 1e-3

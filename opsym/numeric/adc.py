@@ -24,7 +24,8 @@ from dataclasses import dataclass
 from typing import Any
 
 from ..errors import BudgetError
-from ..model.limits import read_number, shown
+from ..model.limits import shown
+from ._inputs import read_number
 from .units import format_si
 
 __all__ = ["ADC", "LSB_RULE"]

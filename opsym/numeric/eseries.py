@@ -33,8 +33,8 @@ from typing import Any
 import sympy as sp
 
 from ..errors import BudgetError, NoSolutionError, UnknownNameError
-from ..model.limits import read_number, shown
-from ._inputs import check_values
+from ..model.limits import shown
+from ._inputs import check_values, read_number
 from .units import format_si, parse_quantity
 
 __all__ = ["SERIES", "NullChoice", "choose_for_null", "preferred_value", "series_values"]

@@ -34,8 +34,8 @@ import numpy as np
 import sympy as sp
 
 from ..errors import BudgetError, InvalidValueError
-from ..model.circuit import to_exact
 from ..model.symbols import LAPLACE
+from ..values import to_exact
 from ._quadrature import adaptive
 
 __all__ = [

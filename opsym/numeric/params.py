@@ -36,10 +36,13 @@ import math
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from types import MappingProxyType
 from typing import Any
 
 from ..errors import BudgetError, UnknownNameError
 from ..model.limits import shown
+from ..model.nonideal import KINDS
+from ..model.symbols import SYMBOLS
 from .units import db_to_ratio, parse_db, parse_fraction, parse_quantity
 
 __all__ = [
@@ -49,6 +52,7 @@ __all__ = [
     "BiasLaw",
     "OpAmpParams",
     "ResistorParams",
+    "field_units",
     "opamp_parameters",
     "resistor_parameters",
 ]
@@ -180,10 +184,20 @@ class OpAmpParams:
     rail_pos: float | None = None
     swing_headroom: float | None = None
     cm_headroom: float | None = None
+    extra: Mapping[str, float] = field(default_factory=dict)
 
     def __post_init__(self) -> None:
+        object.__setattr__(self, "extra", MappingProxyType(dict(self.extra)))
+        for key, v in self.extra.items():
+            if key not in registered_fields():
+                raise BudgetError(
+                    f"op-amp set {self.name!r}: extra field {key!r} belongs to no registered "
+                    f"non-ideality; the registered ones are {', '.join(registered_fields())}"
+                )
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+                raise BudgetError(f"op-amp set {self.name!r}: {key}={v!r} is not a number")
         for f in dataclasses.fields(self):
-            if f.name in ("name", "description", "bias_law"):
+            if f.name in ("name", "description", "bias_law", "extra"):
                 continue
             v = getattr(self, f.name)
             if v is None and f.name in _OPTIONAL:
@@ -257,6 +271,35 @@ class OpAmpParams:
         db = self.psrr_min_db if _check_grade(grade) == "max" else self.psrr_typ_db
         return db_to_ratio(db)
 
+    def value(
+        self, stem: str, grade: str = "max", temperature: float = REFERENCE_TEMPERATURE
+    ) -> float | None:
+        """The number this set gives for a datasheet stem (a ``SymbolSpec.datasheet``).
+
+        ``"vos"``, ``"ib"``, ``"ios"`` (at ``temperature``), ``"a"``, ``"cmrr"``,
+        ``"psrr"`` (at ``grade``), ``"gbw"``, ``"en"``, ``"in"``, ``"fce"``, ``"fci"``
+        (typical), or the stem of a registered kind, read from ``extra`` as
+        ``<stem>_max`` or ``<stem>_typ``. ``None``: the set does not give it.
+
+        Examples
+        --------
+        >>> p = opamp_parameters("generic CMOS")
+        >>> p.value("vos") == p.vos_max, p.value("gbw") == p.gbw_typ
+        (True, True)
+        """
+        g = _check_grade(grade)
+        graded = {"vos": self.vos, "ib": self.ib, "ios": self.ios}
+        if stem in graded:
+            return graded[stem](g, temperature)
+        ratios = {"a": self.gain, "cmrr": self.cmrr, "psrr": self.psrr}
+        if stem in ratios:
+            return ratios[stem](g)
+        typical = {"gbw": self.gbw_typ, "en": self.en_typ, "in": self.in_typ,
+                   "fce": self.fce, "fci": self.fci}  # fmt: skip
+        if stem in typical:
+            return typical[stem]
+        return self.extra.get(f"{stem}_{'max' if g == 'max' else 'typ'}")
+
     def values_for(self, opamp: str, grade: str = "max") -> dict[str, float]:
         """The set's numbers under op-amp ``opamp``'s symbol names, for ``values=``.
 
@@ -272,10 +315,10 @@ class OpAmpParams:
         ['U1.GBW', 'U1.en']
         """
         pairs = (
-            ("A", self.gain(grade)), ("A0", self.gain(grade)), ("CMRR", self.cmrr(grade)),
-            ("PSRR", self.psrr(grade)), ("GBW", self.gbw_typ), ("en", self.en_typ),
-            ("in", self.in_typ), ("fce", self.fce), ("fci", self.fci),
-        )  # fmt: skip
+            (spec.suffix, self.value(spec.datasheet, grade))
+            for spec in SYMBOLS.values()
+            if spec.datasheet is not None and spec.suffix not in budget_sources()
+        )
         return {
             f"{opamp}.{what}": float(v)
             for what, v in pairs
@@ -290,7 +333,8 @@ class OpAmpParams:
         >>> opamp_parameters("generic CMOS").replace(vos_max="2m").vos_max
         0.002
         """
-        return OpAmpParams.from_mapping({**dataclasses.asdict(self), **changes})
+        fields = {f.name: getattr(self, f.name) for f in dataclasses.fields(self)}
+        return OpAmpParams.from_mapping({**fields.pop("extra"), **fields, **changes})
 
     @classmethod
     def from_mapping(cls, data: Mapping[str, Any]) -> OpAmpParams:
@@ -306,34 +350,88 @@ class OpAmpParams:
         >>> p.vos_max, p.bias_law.kind
         (2.5e-05, 'doubling')
         """
-        names = {f.name for f in dataclasses.fields(cls)}
-        unknown = sorted(set(data) - names)
+        units = field_units()
+        unknown = sorted(set(data) - set(units) - {"name", "description", "bias_law", "extra"})
         if unknown:
             raise BudgetError(
                 f"op-amp set: unknown field(s) {', '.join(unknown)}; "
-                f"the fields are {', '.join(sorted(names))}"
+                f"the fields are {', '.join(sorted(units))}, name, description, bias_law"
             )
         if "name" not in data:
             raise BudgetError("op-amp set: give it a 'name'")
-        units = {"vos": "V", "dri": "V/°C", "ib_": "A", "ios": "A", "a_t": "V/V", "a_m": "V/V",
-                 "gbw": "Hz", "en_": "V/√Hz", "in_": "A/√Hz", "fce": "Hz", "fci": "Hz",
-                 "rai": "V", "swi": "V", "cm_": "V"}  # fmt: skip
-        kw: dict[str, Any] = {}
+        kw: dict[str, Any] = {"extra": {}}
         for key, raw in data.items():
             where = f"op-amp set {data['name']!r} field {key}"
             if key in ("name", "description"):
                 kw[key] = str(raw)
+            elif key == "extra":
+                kw["extra"].update(raw)
             elif raw is None and key in _OPTIONAL:
                 kw[key] = None
             elif isinstance(raw, (int, float)) and not isinstance(raw, bool):
                 kw[key] = float(raw)  # numbers as they are (inf: "no limit"); checked below
             elif key == "bias_law":
                 kw[key] = _bias_law(raw, where)
-            elif key.endswith("_db"):
+            elif units[key] == "dB":
                 kw[key] = _db(raw, where)
             else:
-                kw[key] = parse_quantity(raw, units.get(key[:3]), where=where)
+                kw[key] = parse_quantity(raw, units[key], where=where)
+        for key in registered_fields():
+            if key in kw:
+                kw["extra"][key] = kw.pop(key)
         return cls(**kw)
+
+
+#: The unit of each built-in field (``None``: a plain ratio; ``"dB"``: a number of dB).
+_FIELD_UNITS: dict[str, str | None] = {
+    "vos_typ": "V", "vos_max": "V", "drift_typ": "V/°C", "drift_max": "V/°C",
+    "ib_typ": "A", "ib_max": "A", "ios_typ": "A", "ios_max": "A",
+    "a_typ": None, "a_min": None,
+    "cmrr_typ_db": "dB", "cmrr_min_db": "dB", "psrr_typ_db": "dB", "psrr_min_db": "dB",
+    "gbw_typ": "Hz", "en_typ": "V/√Hz", "in_typ": "A/√Hz", "fce": "Hz", "fci": "Hz",
+    "rail_neg": "V", "rail_pos": "V", "swing_headroom": "V", "cm_headroom": "V",
+}  # fmt: skip
+#: Datasheet stems the built-in fields already hold.
+_BUILT_IN_STEMS = frozenset({"vos", "ib", "ios", "a", "cmrr", "psrr", "gbw", "en", "in",
+                             "fce", "fci"})  # fmt: skip
+
+
+def registered_fields() -> dict[str, str | None]:
+    """``<stem>_typ`` and ``<stem>_max`` for every registered kind's own datasheet stem.
+
+    Examples
+    --------
+    >>> "vos_max" in registered_fields()  # built in, not an extra field
+    False
+    """
+    found: dict[str, str | None] = {}
+    for spec in SYMBOLS.values():
+        if spec.datasheet is not None and spec.datasheet not in _BUILT_IN_STEMS:
+            for grade in ("typ", "max"):
+                found[f"{spec.datasheet}_{grade}"] = spec.unit or None
+    return found
+
+
+def field_units() -> dict[str, str | None]:
+    """Every parameter-set field a file or mapping may give, with its unit.
+
+    Examples
+    --------
+    >>> field_units()["vos_max"], field_units()["cmrr_min_db"]
+    ('V', 'dB')
+    """
+    return {**_FIELD_UNITS, **registered_fields()}
+
+
+def budget_sources() -> frozenset[str]:
+    """Suffixes of the DC error sources a budget takes as rows (``Vos``, ``Ib``, …)."""
+    return frozenset(
+        spec.suffix
+        for kind in KINDS.values()
+        if not kind.noise
+        for spec in kind.symbols
+        if spec.role == "source"
+    )
 
 
 #: Fields that may be ``None`` (not given).

@@ -1,6 +1,6 @@
 """Numbers with SI prefixes in and out, ratios in dB, and fractions in % or ppm.
 
-Text is read by :func:`opsym.io.values.parse_value`, the one value syntax of
+Text is read by :func:`opsym.values.parse_value`, the one value syntax of
 opsym (design files, ``Circuit`` values and the numeric layer alike); this
 module turns its exact numbers into floats and adds the checks the numeric
 layer needs (the expected unit) with messages that name the field. Writing SI
@@ -31,7 +31,7 @@ from typing import Any
 from quantiphy import Quantity
 
 from ..errors import ValueRangeError, ValueSyntaxError
-from ..io.values import _MAX_DB, parse_value
+from ..values import _MAX_DB, parse_value
 
 __all__ = [
     "db_to_ratio",
@@ -92,7 +92,7 @@ def _canonical_unit(unit: str) -> str:
 def parse_quantity(text: Any, unit: str | None = None, *, where: str = "value") -> float:
     """Read a number written with an optional SI prefix and unit.
 
-    Text is read by :func:`opsym.io.values.parse_value`, the one reader of
+    Text is read by :func:`opsym.values.parse_value`, the one reader of
     values in opsym, so it means the same here as in a design file or a
     ``Circuit`` value (``"4k7"``, ``"1meg"``, ``"2R2"``, ``"1%"``); the exact
     result is then made a float, which the parser's range keeps finite.
@@ -180,7 +180,7 @@ def _to_float(exact: Any, text: str, where: str) -> float:
 def parse_db(text: Any, *, where: str = "value") -> float:
     """Read a level in dB: ``"100 dB"``, ``"-3 dB"`` or a plain number (in dB).
 
-    The number is read by :func:`opsym.io.values.parse_value` and must lie
+    The number is read by :func:`opsym.values.parse_value` and must lie
     within ±3000 dB, the parser's range for values in dB.
 
     Examples
@@ -263,7 +263,7 @@ def format_si(x: float, unit: str = "", digits: int = 4, *, latex: bool = False)
 def parse_fraction(text: Any, *, where: str = "value") -> float:
     """Read a fraction written as a number, a percentage or parts per million.
 
-    Text is read by :func:`opsym.io.values.parse_value` as a ratio: ``%``,
+    Text is read by :func:`opsym.values.parse_value` as a ratio: ``%``,
     ``ppm`` and ``dB`` fit, other units are an error that names ``where``.
 
     Examples

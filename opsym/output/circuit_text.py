@@ -36,23 +36,12 @@ from typing import Any
 
 import sympy as sp
 
+from ..model.nonideal import SinglePole
+from ..model.symbols import SYMBOLS
 from ..numeric.units import format_si, parse_quantity
 
 __all__ = ["element_lines", "parameter_text"]
 
-_UNITS = {
-    "resistor": "Ω",
-    "capacitor": "F",
-    "inductor": "H",
-    "voltage source": "V",
-    "current source": "A",
-}
-#: Units of the op-amp parameters shown beside the op-amp in the element list.
-_OPAMP_UNITS = {
-    "A0": "", "GBW": "Hz", "A": "", "en": "V/√Hz", "in": "A/√Hz", "fce": "Hz", "fci": "Hz",
-    "Vos": "V", "Ib+": "A", "Ib-": "A", "Ib": "A", "Ios": "A", "Vcm": "V", "dVs": "V",
-    "CMRR": "", "PSRR": "",
-}  # fmt: skip
 
 
 def _number(value: Any, where: str) -> float | None:
@@ -97,6 +86,11 @@ def parameter_text(params: Any, grade: str = "max", omit: frozenset[str] = froze
                           ("fci", params.fci, "Hz")):  # fmt: skip
         if v is not None and what not in omit:
             parts.append(f"{what} {format_si(v, unit)}")
+    for stem in sorted({key.rpartition("_")[0] for key in params.extra}):
+        v = params.value(stem, grade)
+        spec = next((s for s in SYMBOLS.values() if s.datasheet == stem), None)
+        if v is not None and spec is not None:
+            parts.append(f"{spec.suffix} {_quantity(v, spec.unit)}")
     if params.rail_neg is not None:
         rails = (format_si(params.rail_neg, "V"), format_si(params.rail_pos, "V"))
         parts.append(f"rails {rails[0]} and {rails[1]}")
@@ -109,7 +103,6 @@ def parameter_text(params: Any, grade: str = "max", omit: frozenset[str] = froze
 
 def _opamp_text(amp: Any, given: Mapping[str, Any]) -> str:
     """The gain model, the error-source kinds and the op-amp's given parameters."""
-    from ..model.nonideal import SinglePole
 
     if amp.gain is None:
         gain = "ideal (nullor)"
@@ -121,12 +114,12 @@ def _opamp_text(amp: Any, given: Mapping[str, Any]) -> str:
         gain = f"open-loop gain {amp.gain}"
     kinds = ", ".join(n.kind for n in amp.nonideals) or "none"
     shown = []
-    for what, unit in _OPAMP_UNITS.items():
+    for what, spec in SYMBOLS.items():
         key = f"{amp.name}.{what}"
         if key in given:
             number = _number(given[key], key)
             if number is not None:
-                shown.append(f"{what} = {_quantity(number, unit)}")
+                shown.append(f"{what} = {_quantity(number, spec.unit)}")
     return f"; {gain}; error sources: {kinds}" + ("; " + ", ".join(shown) if shown else "")
 
 
@@ -143,7 +136,7 @@ def _unused(amp: Any) -> frozenset[str]:
 
 
 def _value_text(e: Any, given: Mapping[str, Any], numbers: Mapping[str, float]) -> str:
-    unit = _UNITS.get(e.kind, "")
+    unit = e.unit
     value = getattr(e, "value", None)
     if e.name in given:
         number = _number(given[e.name], e.name)

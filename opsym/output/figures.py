@@ -8,7 +8,7 @@ suffix of ``path`` (``.png``, ``.pdf``, ``.svg``).
 Examples
 --------
 >>> import tempfile, pathlib
->>> from opsym.numeric.tolerance import tolerance_analysis
+>>> from opsym.study.tolerance import tolerance_analysis
 >>> import sympy as sp
 >>> R1, R2 = sp.symbols("R1 R2", positive=True)
 >>> study = tolerance_analysis(1 + R2 / R1, {"R1": 1e3, "R2": 9e3}, {"R1": 0.01, "R2": 0.01},
@@ -34,6 +34,11 @@ from ..errors import (
     NoSolutionError,
     UnknownNameError,
 )
+from ..model.elements import CurrentSource
+from ..model.symbols import LAPLACE
+from ..numeric.frequency import frequency_grid
+from ..numeric.units import format_si
+from .laplace import transfer_parts
 
 __all__ = [
     "bode_chart",
@@ -70,7 +75,6 @@ def _save(fig: Any, path: Any) -> Path:
 def _volts_axis(ax: Any, axis: str = "x") -> None:
     from matplotlib.ticker import FuncFormatter
 
-    from ..numeric.units import format_si
 
     fmt = FuncFormatter(lambda v, _pos: format_si(v, "V", 3))
     (ax.xaxis if axis == "x" else ax.yaxis).set_major_formatter(fmt)
@@ -163,8 +167,6 @@ def _pole_frequencies(result: Any, sym: Any) -> list[float]:
     """Frequencies (Hz) of the poles and zeros of one coefficient, when all are numbers."""
     import sympy as sp
 
-    from ..model.symbols import LAPLACE
-    from .laplace import transfer_parts
 
     parts = transfer_parts(result.coefficient(sym))
     if parts is None:
@@ -223,7 +225,6 @@ def _source(result: Any, source: Any) -> Any:
 
 def _is_current(result: Any, sym: Any) -> bool:
     """True when ``sym`` is a current (a current source, a bias current): ``H`` in V/A."""
-    from ..model.elements import CurrentSource
 
     if sym.name.rsplit(".", 1)[-1] in ("Ib+", "Ib-", "Ib", "Ios", "in+", "in-"):
         return True
@@ -240,7 +241,6 @@ def _has_gain_model(result: Any) -> bool:
 def _hertz_axis(ax: Any) -> None:
     from matplotlib.ticker import FuncFormatter
 
-    from ..numeric.units import format_si
 
     ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _pos: format_si(v, "Hz", 3)))
     ax.set_xlabel("frequency")
@@ -300,8 +300,6 @@ def bode_chart(
 
 def _bode(result: Any, source: Any, f_start: Any, f_stop: Any, ideal: bool) -> Any:
     """The figure of :func:`bode_chart`, not yet saved (its axes and lines can be read)."""
-    from ..numeric.frequency import frequency_grid
-    from ..numeric.units import format_si
 
     _need_s(result, "bode_chart")
     sym = _source(result, source)
@@ -368,7 +366,6 @@ def gain_error_chart(
 
 def _gain_error(result: Any, signal: Any, f_start: Any, f_stop: Any) -> Any:
     """The figure of :func:`gain_error_chart`, not yet saved."""
-    from ..numeric.frequency import frequency_grid
 
     _need_s(result, "gain_error_chart")
     if not _has_gain_model(result):
@@ -437,8 +434,6 @@ def noise_density_chart(
 
 def _noise_density(noise_result: Any, f_start: float, f_stop: float, top: int | None) -> Any:
     """The figure of :func:`noise_density_chart`, not yet saved."""
-    from ..numeric.frequency import frequency_grid
-    from ..numeric.units import format_si
 
     if top is not None and (isinstance(top, bool) or not isinstance(top, int) or top < 1):
         raise BudgetError(f"noise_density_chart: top={top!r}; give a whole number >= 1 or None")

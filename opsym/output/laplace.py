@@ -30,9 +30,9 @@ import numpy as np
 import sympy as sp
 
 from ..analyses.present import TIDY_LIMIT, tidy, trade_form
-from ..model.circuit import to_exact
 from ..model.symbols import LAPLACE
 from ..numeric.units import format_si
+from ..values import to_exact
 
 __all__ = ["TransferParts", "hertz_latex", "number_latex", "transfer_parts", "transfer_terms"]
 

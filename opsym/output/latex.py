@@ -24,6 +24,7 @@ from typing import TYPE_CHECKING
 
 import sympy as sp
 
+from .._services import provides
 from ..analyses.present import trade_form
 from ..errors import ArgumentTypeError
 from ..model.limits import expect_mapping
@@ -60,6 +61,7 @@ def _term(result: Result, symbol: sp.Symbol, table: Mapping[sp.Symbol, str]) -> 
     return f"{sign} " + (source if coeff == 1 else body + r"\, " + source)
 
 
+@provides("result_latex")
 def result_latex(result: Result, names: Mapping[sp.Symbol, str] | None = None) -> str:
     r"""The output of ``result`` as an ``aligned`` block, one source per line, zero terms left out.
 

@@ -6,7 +6,7 @@ r"""Noise as tables and formulas: each source's RMS and share, its transfer and 
 
 Examples
 --------
->>> from opsym.analyses.noise import NoiseBudget, NoiseRow
+>>> from opsym.study.noise import NoiseBudget, NoiseRow
 >>> b = NoiseBudget("out", 10.0, 1e4, 298.15,
 ...                 (NoiseRow("U1.en", "voltage noise en of U1", 3e-6, 0.9),
 ...                  NoiseRow("R2", "thermal noise √(4kTR) of R2", 1e-6, 0.1)), 3.16e-6, None)
@@ -21,24 +21,23 @@ from typing import TYPE_CHECKING
 
 import sympy as sp
 
+from ..analyses.noise import PEAK_TO_PEAK_RULE
 from ..errors import ArgumentTypeError
 from ..model.limits import expect_mapping
 from ..model.symbols import component_symbol, latex_name
 from ..numeric.units import format_si
 from .laplace import number_latex, transfer_terms
-from .tables import Table
+from .tables import SHORT_CAUTION, Table
 
 if TYPE_CHECKING:
-    from ..analyses.noise import NoiseBudget, NoiseResult
+    from ..analyses.noise import NoiseResult
+    from ..study.noise import NoiseBudget
 
 __all__ = ["noise_latex", "noise_markdown", "noise_table"]
 
 
 def noise_table(budget: NoiseBudget) -> Table:
     """The rows of ``budget`` largest first, totals in the footer, rules as notes."""
-    from ..analyses.noise import PEAK_TO_PEAK_RULE
-    from ..numeric._plan import SHORT_CAUTION
-
     band = f"{format_si(budget.f_low, 'Hz')} to {format_si(budget.f_high, 'Hz')}"
     if budget.f_high == float("inf"):
         band = f"{format_si(budget.f_low, 'Hz')} to ∞"

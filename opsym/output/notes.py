@@ -37,12 +37,13 @@ import sympy as sp
 from ..analyses.present import trade_form
 from ..errors import ArgumentTypeError, BudgetError
 from ..model.limits import shown as _shown
+from ..model.nonideal import KINDS
 from ..model.symbols import latex_name
 from .circuit_text import element_lines
 from .sections import FrequencySection, NoiseSection
 from .tables import latex_text
 
-__all__ = ["CAUTION", "CONVENTIONS", "design_note"]
+__all__ = ["CAUTION", "conventions", "design_note"]
 
 #: The caution every note carries.
 CAUTION = (
@@ -52,13 +53,24 @@ CAUTION = (
     "licensed engineer."
 )
 
-#: The sign conventions the terms follow.
-CONVENTIONS = (
-    "Vos is a source in series with the + pin.",
-    "Ib+ and Ib- flow into the pins; Ib = (Ib+ + Ib-)/2 and Ios = Ib+ - Ib-.",
-    "The CMRR error is Vcm/CMRR in series with the + pin (Vcm at the pins, CMRR as V/V).",
-    "The PSRR error is dVs/PSRR, dVs the change of the total supply span.",
-)
+def conventions(circuit: Any = None) -> tuple[str, ...]:
+    """The sign conventions of the error sources a circuit's op-amps carry.
+
+    Each kind states its own (``NonIdeal.convention``); without a circuit,
+    those of every registered kind that enters the DC terms.
+
+    Examples
+    --------
+    >>> conventions()[0]
+    'Vos is a source in series with the + pin.'
+    """
+    if circuit is None:
+        kinds = [k for k in KINDS.values() if not k.noise]
+    else:
+        carried = {type(n) for amp in circuit.opamps for n in amp.nonideals}
+        kinds = [k for k in KINDS.values() if k in carried]
+    return tuple(k.convention for k in kinds if k.convention)
+
 
 #: What the operating point section says it is.
 _OPERATING = (
@@ -206,7 +218,7 @@ def design_note(
             out += ["", "### Nominal operating point", "", _OPERATING, ""]
             out += [f"- {'**' + line + '**' if line.startswith('WARNING') else line}"
                     for line in op_lines]  # fmt: skip
-        out += ["", "### Conventions", "", *[f"- {c}" for c in CONVENTIONS]]
+        out += ["", "### Conventions", "", *[f"- {c}" for c in conventions(circuit)]]
         out += ["", "### Symbolic terms", "", "$$", terms_latex, "$$"]
         if conditions or list(choices):
             out += ["", "### Conditions", ""]
@@ -242,7 +254,7 @@ def design_note(
                               else latex_text(line)) for line in op_lines]  # fmt: skip
         body += [r"\end{itemize}"]
     body += [r"\subsection*{Conventions}", r"\begin{itemize}"]
-    body += [r"\item " + latex_text(c) for c in CONVENTIONS]
+    body += [r"\item " + latex_text(c) for c in conventions(circuit)]
     body += [r"\end{itemize}", r"\subsection*{Symbolic terms}", r"\["]
     body += [terms_latex, r"\]"]
     choices = list(choices)

@@ -33,6 +33,7 @@ import numpy as np
 
 from ..errors import BudgetError, InvalidValueError, NoSolutionError
 from ..numeric.units import format_si
+from .figures import _has_gain_model, _is_current
 from .latex import transfer_latex
 from .noise import noise_latex, noise_table
 from .tables import Table, latex_text
@@ -104,7 +105,6 @@ def response_table(result: Any, points: Iterable[float], source: Any = None) -> 
          0 Hz  0.99999 V/V   0.00°           10 ppm
        10 kHz  0.99994 V/V  -0.57°         0.9999 %
     """
-    from .figures import _has_gain_model, _is_current
 
     sym = result._signal(source) if source is None else result._source_symbol(source)
     f = np.asarray([float(p) for p in points], dtype=float)

@@ -26,7 +26,14 @@ from dataclasses import dataclass
 
 from ..errors import OpsymError
 
-__all__ = ["Table", "latex_text"]
+__all__ = [
+    "SHORT_CAUTION","Table", "latex_text"]
+
+#: The caution every budget and noise table ends with (design notes carry the long one).
+SHORT_CAUTION = (
+    "A design aid: verify by measurement; for medical or safety instrumentation follow "
+    "local codes and have the design reviewed by a licensed engineer."
+)
 
 _LATEX_SPECIAL = {
     "\\": r"\textbackslash{}",

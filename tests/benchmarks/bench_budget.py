@@ -34,10 +34,10 @@ def measure(stages: int) -> dict[str, float]:
     """Seconds for each phase of one cascade's numeric study."""
     from bench_circuits import inverting_cascade
 
-    from opsym.numeric.budget import error_budget
     from opsym.numeric.params import opamp_parameters, resistor_parameters
-    from opsym.numeric.temperature import budget_over_temperature
-    from opsym.numeric.tolerance import tolerance_analysis
+    from opsym.study.budget import error_budget
+    from opsym.study.temperature import budget_over_temperature
+    from opsym.study.tolerance import tolerance_analysis
 
     circuit = inverting_cascade(stages)
     values = _values(stages)

@@ -303,7 +303,7 @@ def test_a_registered_non_ideality_is_read_from_include(monkeypatch):
 
 
 def test_the_examples_in_the_design_file_guide_read_and_run():
-    from opsym.io.study import run_design
+    from opsym.study.design import run_design
 
     guide = (Path(__file__).parents[2] / "docs" / "design-files.md").read_text(encoding="utf-8")
     blocks = [b for b in re.findall(r"```toml\n(.*?)```", guide, re.S) if "output =" in b]

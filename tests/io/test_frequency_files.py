@@ -12,10 +12,10 @@ import opsym
 from opsym.errors import BudgetError, DesignFileError
 from opsym.io.design import DEFAULT_INCLUDE
 from opsym.io.designfile import parse_design
-from opsym.io.study import numeric_values, run_design
 from opsym.model.elements import Inductor
 from opsym.model.nonideal import SinglePole
 from opsym.numeric.params import OPAMP_SETS, opamp_parameters
+from opsym.study.design import numeric_values, run_design
 
 #: Boltzmann and elementary charge, exact in the SI since 2019 (BIPM SI Brochure, 9th ed.).
 K_B = 1.380649e-23

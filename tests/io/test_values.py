@@ -12,7 +12,7 @@ from hypothesis import strategies as st
 
 from opsym.errors import OpsymError, ValueSyntaxError
 from opsym.io.formatting import format_number, format_value
-from opsym.io.values import MAX_LENGTH, parse_value
+from opsym.values import MAX_LENGTH, parse_value
 
 R1, R2, R3 = sp.symbols("R1 R2 R3", positive=True)
 VOS = sp.Symbol("U1.Vos", real=True)

@@ -1,4 +1,4 @@
-"""Error budgets (opsym.numeric.budget) and temperature sweeps (opsym.numeric.temperature)."""
+"""Error budgets (opsym.study.budget) and temperature sweeps (opsym.study.temperature)."""
 
 import math
 
@@ -8,9 +8,9 @@ import sympy as sp
 import opsym
 from opsym.errors import BudgetError
 from opsym.numeric.adc import ADC
-from opsym.numeric.budget import error_budget
 from opsym.numeric.params import OpAmpParams, ResistorParams, opamp_parameters
-from opsym.numeric.temperature import budget_over_temperature
+from opsym.study.budget import error_budget
+from opsym.study.temperature import budget_over_temperature
 
 
 def _follower_with_rs():
@@ -148,6 +148,21 @@ def test_gain_rows_and_temperature_sweep():
         rel=1e-9,
     )
     assert "worst" in sweep.to_text()
+
+
+def test_a_single_pole_op_amp_has_its_open_loop_row_at_dc():
+    """The DC budget of gain="pole" takes A0 as the open-loop gain, like gain="finite"."""
+    c = opsym.Circuit("non-inverting, single pole")
+    c.voltage_source("Vin", "p", "0")
+    c.resistor("R1", "n", "0")
+    c.resistor("R2", "n", "out")
+    c.opamp("U1", plus="p", minus="n", out="out", gain="pole")
+    res = c.analyze("out", domain="s")
+    params = OpAmpParams("t", vos_max=1e-3, a_typ=2e4, a_min=2e4, gbw_typ=1e6)
+    b = error_budget(res, {"R1": 1e3, "R2": 9e3, "Vin": 1.0}, {"U1": params})
+    # G(A0) − G(∞) = 10·(1/(1 + 10/A0) − 1), A0 = 20 000: −0.04998 % of 10 V
+    # Source: reference-checks §5, Franco ch. 1 [mem]
+    assert b.row("gain: open-loop").output == pytest.approx(10 * (1 / (1 + 10 / 2e4) - 1))
 
 
 def test_fet_transimpedance_worst_at_hot_end():

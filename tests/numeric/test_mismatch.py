@@ -1,5 +1,5 @@
 """Resistor mismatch in budgets: rows for every valued non-signal source, the network CMRR,
-and budgets of long cascades (opsym.numeric._plan, opsym.numeric._mismatch)."""
+and budgets of long cascades (opsym.study._plan, opsym.numeric._mismatch)."""
 
 import itertools
 import math
@@ -7,10 +7,10 @@ import math
 import pytest
 
 import opsym
-from opsym.numeric.budget import error_budget
 from opsym.numeric.params import OpAmpParams, ResistorParams
-from opsym.numeric.temperature import budget_over_temperature
-from opsym.numeric.tolerance import tolerance_analysis
+from opsym.study.budget import error_budget
+from opsym.study.temperature import budget_over_temperature
+from opsym.study.tolerance import tolerance_analysis
 
 ONE_PERCENT = ResistorParams(0.01, 0.0)
 # An invented op-amp with only an offset: the mismatch rows stand out.

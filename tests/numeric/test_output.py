@@ -7,13 +7,13 @@ import pytest
 
 import opsym
 from opsym.errors import BudgetError
-from opsym.numeric.budget import error_budget
 from opsym.numeric.eseries import choose_for_null
 from opsym.numeric.params import opamp_parameters, resistor_parameters
-from opsym.numeric.temperature import budget_over_temperature
-from opsym.numeric.tolerance import tolerance_analysis
 from opsym.output import figures
 from opsym.output.notes import CAUTION, design_note
+from opsym.study.budget import error_budget
+from opsym.study.temperature import budget_over_temperature
+from opsym.study.tolerance import tolerance_analysis
 
 DOCS = Path(__file__).resolve().parents[2] / "docs" / "budget.md"
 

@@ -1,4 +1,4 @@
-"""Tolerance studies (opsym.numeric.tolerance): corners, first-order bound, Monte Carlo."""
+"""Tolerance studies (opsym.study.tolerance): corners, first-order bound, Monte Carlo."""
 
 import math
 
@@ -11,7 +11,7 @@ from hypothesis import strategies as st
 import opsym
 from opsym.errors import BudgetError
 from opsym.numeric.params import ResistorParams
-from opsym.numeric.tolerance import (
+from opsym.study.tolerance import (
     corner_values,
     first_order_bound,
     monte_carlo,

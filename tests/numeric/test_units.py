@@ -5,7 +5,6 @@ import math
 import pytest
 
 from opsym import OpsymError, ValueSyntaxError
-from opsym.io.values import parse_value
 from opsym.numeric.units import (
     db_to_ratio,
     format_si,
@@ -13,6 +12,7 @@ from opsym.numeric.units import (
     parse_quantity,
     ratio_to_db,
 )
+from opsym.values import parse_value
 
 
 @pytest.mark.parametrize(

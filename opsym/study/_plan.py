@@ -3,7 +3,7 @@
 :func:`_prepare` turns a :class:`~opsym.analyses.result.Result`, the user's values
 and the op-amp parameter sets into a :class:`_Plan` of numeric coefficients; the
 budget module then evaluates the plan at any temperature cheaply
-(:func:`opsym.numeric.budget._evaluate`). Split from ``budget.py`` to keep each
+(:func:`opsym.study.budget._evaluate`). Split from ``budget.py`` to keep each
 module to one job.
 
 Numbers go in exactly, by replacement (:mod:`opsym.numeric._numbers`), into the
@@ -23,33 +23,20 @@ import numpy as np
 import sympy as sp
 
 from ..errors import BudgetError, OpsymError
-from ..model.symbols import opamp_symbol
-from ._mismatch import MAX_CORNERS, REJECTED, Rejection, Spread
-from ._numbers import LARGE_GAIN, Exact, exact_number, free_symbols_of, to_float
-from .adc import ADC
-from .params import OpAmpParams, ResistorParams
-from .units import format_si, parse_quantity
+from ..model.elements import CurrentSource
+from ..model.symbols import SYMBOLS, opamp_symbol
+from ..numeric._mismatch import MAX_CORNERS, REJECTED, Rejection, Spread
+from ..numeric._numbers import LARGE_GAIN, Exact, exact_number, free_symbols_of, to_float
+from ..numeric.adc import ADC
+from ..numeric.params import OpAmpParams, ResistorParams
+from ..numeric.units import format_si, parse_quantity
+from ..output.tables import SHORT_CAUTION
 
 #: Words and units of each error source in the tables.
-WORDS = {
-    "Vos": ("offset voltage Vos", "V"),
-    "Ib": ("bias current Ib", "A"),
-    "Ios": ("offset current Ios", "A"),
-    "Ib+": ("bias current Ib+", "A"),
-    "Ib-": ("bias current Ib-", "A"),
-    "Vcm": ("common mode Vcm/CMRR", "V"),
-    "dVs": ("supply change dVs/PSRR", "V"),
-}
-#: Sources whose sign the parameter set gives (the rest are ±).
-SIGNED = {"Ib", "Ib+", "Ib-"}
 WORST_CASE_RULE = "worst case = Σ|e| (every term at its limit, signs adding)"
 RSS_RULE = (
     "RSS = √Σe², uncorrelated terms as in JCGM 100:2008 (GUM) §5.1.2 eq. (10); "
     "RSS of datasheet limits is common practice, not a GUM result"
-)
-SHORT_CAUTION = (
-    "A design aid: verify by measurement; for medical or safety instrumentation follow "
-    "local codes and have the design reviewed by a licensed engineer."
 )
 
 
@@ -197,13 +184,14 @@ def _exact_values(
         owner, dot, what = name.partition(".")
         if name in given:
             subs[sym] = exact_number(given[name])
-        elif dot and owner in opamps and what in ("A", "A0", "CMRR", "PSRR"):
-            p = opamps[owner]
-            v = {"A": p.gain, "A0": p.gain, "CMRR": p.cmrr, "PSRR": p.psrr}[what](grade)
-            if math.isinf(v) and what in ("A", "A0"):
+        elif dot and owner in opamps and _scales(what):
+            v = opamps[owner].value(SYMBOLS[what].datasheet, grade)
+            if v is None:
+                continue
+            if math.isinf(v) and _is_gain(what):
                 infinite_gain.append(sym)
             subs[sym] = exact_number(v)  # an infinite CMRR, PSRR: 1/oo is 0
-    gains = [s for n, s in names.items() if n.endswith((".A", ".A0"))]
+    gains = [s for n, s in names.items() if _is_gain(n.partition(".")[2])]
     if infinite_gain:
         finite = [s for s in gains if s not in infinite_gain]
         if finite:
@@ -215,6 +203,18 @@ def _exact_values(
     ideal = {**subs, **{s: LARGE_GAIN for s in gains}}
     subs.update((s, LARGE_GAIN) for s in infinite_gain)
     return Exact(subs), Exact(ideal)
+
+
+def _scales(what: str) -> bool:
+    """An op-amp parameter (not a source) whose number a parameter set gives."""
+    spec = SYMBOLS.get(what)
+    return spec is not None and spec.role == "parameter" and spec.datasheet is not None
+
+
+def _is_gain(what: str) -> bool:
+    """The open-loop gain of either gain model: ``A``, or the single pole's ``A0``."""
+    spec = SYMBOLS.get(what)
+    return spec is not None and spec.datasheet == "a"
 
 
 def _lines(result, terms, exact: Exact, given, opamps, progress) -> tuple[list[_Line], list[str]]:
@@ -271,7 +271,7 @@ def _fixed_value(result, name, what, coeff, given, opamps, exact, derived) -> fl
                 + (" (or the signal values, from which opsym derives it)"
                    if what == "Vcm" else "")
             )  # fmt: skip
-        if owner not in opamps or what not in WORDS:
+        if owner not in opamps or SYMBOLS.get(what) is None or not SYMBOLS[what].datasheet:
             raise BudgetError(
                 f"{name} needs a value: give opamps={{{owner!r}: "
                 "opamp_parameters('generic precision bipolar')}} or "
@@ -299,7 +299,7 @@ def _signal_gain(terms, sig, sig_value, exact: Exact, ideal: Exact):
         return None, None
     g_expr = next(c for s, c in terms.items() if s.name == sig)
     g = exact.value(g_expr, f"the gain from {sig}")
-    has_a = any(s.name.endswith(".A") for s in g_expr.free_symbols)
+    has_a = any(_is_gain(s.name.partition(".")[2]) for s in g_expr.free_symbols)
     open_loop = None
     if sig_value is not None and has_a:
         g_ideal = ideal.value(g_expr, f"the ideal gain from {sig}")
@@ -449,7 +449,6 @@ def _plan_notes(grade, derived, notes, adc, ref, signal_unit, sig) -> tuple[str,
 
 def _signal_unit(circuit: Any, signal: str | None) -> str:
     """``"A"`` when ``signal`` is a current source of ``circuit``, else ``"V"``."""
-    from ..model.elements import CurrentSource
 
     if circuit is None or signal is None:
         return "V"

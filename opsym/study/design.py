@@ -5,7 +5,7 @@ standard value for each), the nominal operating point (each op-amp checked
 against its rails), the sensitivities, the error budget (over the
 temperatures asked for), the tolerance studies, and the frequency response
 and noise budget when the file asks for them (see
-:mod:`opsym.io.frequency_study`). It computes; presenting is the command
+:mod:`opsym.study.frequency`). It computes; presenting is the command
 line's and the design notes' job.
 
 Examples
@@ -48,13 +48,14 @@ import sympy as sp
 
 from ..analyses.operating import OperatingPoint, Rails, operating_point
 from ..errors import BudgetError, OpsymError
+from ..io.design import Design
+from ..model.symbols import SYMBOLS
 from ..numeric.adc import ADC
-from ..numeric.budget import Budget, error_budget
 from ..numeric.eseries import NullChoice, choose_for_null
-from ..numeric.temperature import TemperatureSweep, budget_over_temperature
-from ..numeric.tolerance import ToleranceStudy, tolerance_analysis
-from .design import Design
-from .frequency_study import NoiseReport, ResponseReport, run_noise, run_response
+from .budget import Budget, error_budget
+from .frequency import NoiseReport, ResponseReport, run_noise, run_response
+from .temperature import TemperatureSweep, budget_over_temperature
+from .tolerance import ToleranceStudy, tolerance_analysis
 
 __all__ = ["Study", "rails_of", "run_design"]
 
@@ -250,8 +251,10 @@ def _magnitude(design: Design, term: str) -> float | None:
     if params is None:
         return None
     grade = design.budget.grade if design.budget is not None else "max"
-    getter = {"Vos": params.vos, "Ib": params.ib, "Ios": params.ios}.get(what)
-    return getter(grade) if getter is not None else None
+    spec = SYMBOLS.get(what)
+    if spec is None or spec.role != "source" or spec.datasheet is None:
+        return None
+    return params.value(spec.datasheet, grade)
 
 
 def _term_numbers(result: Any, values: dict[str, float]) -> dict[sp.Symbol, float]:

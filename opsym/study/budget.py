@@ -53,20 +53,20 @@ from typing import Any
 
 from ..errors import BudgetError
 from ..model.limits import check_float, expect_mapping
-from ._inputs import check_values
+from ..model.symbols import SYMBOLS
+from ..numeric._inputs import check_values
+from ..numeric.adc import ADC
+from ..numeric.params import REFERENCE_TEMPERATURE, OpAmpParams, ResistorParams
+from ..numeric.units import format_si
+from ..output.tables import Table
 from ._plan import (
     RSS_RULE,
-    SIGNED,
-    WORDS,
     WORST_CASE_RULE,
     Progress,
     _Plan,
     _prepare,
 )
 from ._views import TableViews
-from .adc import ADC
-from .params import REFERENCE_TEMPERATURE, OpAmpParams, ResistorParams
-from .units import format_si
 
 __all__ = ["RSS_RULE", "WORST_CASE_RULE", "Budget", "BudgetRow", "error_budget"]
 
@@ -183,7 +183,6 @@ class Budget(TableViews):
 
     def table(self):
         """The budget as an :class:`opsym.output.tables.Table`."""
-        from ..output.tables import Table
 
         headers = ["source", "value", "coefficient", "at output", "at input"]
         fs = self.full_scale or (self.adc.fsr if self.adc else None)
@@ -237,10 +236,23 @@ class Budget(TableViews):
 
 
 # ----------------------------------------------------------------------------------------
+def _from_set(p: OpAmpParams, stem: str, grade: str, temperature: float, name: str) -> float:
+    """The set's number for ``stem``; a set that lacks it is an error, never a zero."""
+    value = p.value(stem, grade, temperature)
+    if value is None:
+        field = f"{stem}_{'max' if grade == 'max' else 'typ'}"
+        raise BudgetError(
+            f"{name}: parameter set {p.name!r} gives no {field}; add it to the set "
+            f"(e.g. .replace({field}=...)) or give values[{name!r}]"
+        )
+    return value
+
+
 def _evaluate(plan: _Plan, temperature: float) -> Budget:
     raw = []  # (source, label, value, unit, coefficient, output, signed)
     for ln in plan.lines:
-        words, unit = WORDS.get(ln.what, (ln.what, "V"))
+        spec = SYMBOLS.get(ln.what)
+        words, unit = (spec.words, spec.unit) if spec is not None else (ln.what, "V")
         p = plan.opamps.get(ln.owner)
         if ln.fixed_value is not None:
             value = ln.fixed_value
@@ -248,15 +260,11 @@ def _evaluate(plan: _Plan, temperature: float) -> Budget:
             value = 0.0
         elif p is None:  # pragma: no cover - _prepare insists on a set or a value
             raise BudgetError(f"{ln.symbol} needs a value or a parameter set")
-        elif ln.what == "Vos":
-            value = p.vos(plan.grade, temperature)
-        elif ln.what in ("Ib", "Ib+", "Ib-"):
-            value = p.ib(plan.grade, temperature)
-        elif ln.what == "Ios":
-            value = p.ios(plan.grade, temperature)
+        elif spec is not None and spec.datasheet is not None:
+            value = _from_set(p, spec.datasheet, plan.grade, temperature, ln.symbol.name)
         else:  # Vcm, dVs without a value but with a zero coefficient
             value = 0.0
-        signed = ln.what in SIGNED
+        signed = spec is not None and spec.signed
         out = ln.coefficient * value
         raw.append((ln.symbol.name, f"{ln.owner} {words}", value, unit, ln.coefficient,
                     out if signed else abs(out), signed))  # fmt: skip

@@ -5,7 +5,7 @@ design's numbers in and evaluates the signal's transfer function: the −3 dB
 bandwidth, a table over a logarithmic grid and the gain and gain error at the
 frequencies asked for (the error against the same circuit with ideal
 op-amps). :func:`run_noise` runs the noise analysis over the band asked for
-and keeps its budget. Both compute; :func:`opsym.io.study.run_design` calls
+and keeps its budget. Both compute; :func:`opsym.study.design.run_design` calls
 them and the command line presents them.
 
 Examples
@@ -33,7 +33,7 @@ Examples
 ... from = "10 Hz"
 ... to = "10 kHz"
 ... ''')
->>> from opsym.io.study import numeric_values
+>>> from opsym.study.design import numeric_values
 >>> r = run_response(d, numeric_values(d), d.response)
 >>> round(r.bandwidth / 1e3, 1)  # GBW / noise gain 10, as the trade estimates it
 100.0
@@ -54,12 +54,12 @@ from typing import Any
 import numpy as np
 import sympy as sp
 
-from ..errors import BudgetError, InvalidValueError
+from ..errors import BudgetError, DesignFileError, InvalidValueError
+from ..io.design import Design, NoiseSettings, ResponseSettings
 from ..model.elements import CurrentSource, VoltageSource
 from ..numeric.frequency import HALF_POWER_DB, frequency_grid
 from ..numeric.units import format_si
-from ..output.tables import Table
-from .design import Design, NoiseSettings, ResponseSettings
+from ..output.tables import Table, latex_text
 
 __all__ = [
     "DEFAULT_POINTS_PER_DECADE",
@@ -240,7 +240,6 @@ class NoiseReport:
 
     def to_latex(self, *, float_env: bool = True) -> str:
         """The budget as a LaTeX table."""
-        from ..output.tables import latex_text
 
         extra = [r"\par\smallskip{\footnotesize " + latex_text(n) + "}" for n in self.notes()]
         return "\n".join([self.budget.to_latex(float_env=float_env), *extra])
@@ -296,7 +295,6 @@ def run_noise(
         The band has no finite noise power (1/f noise from 0 Hz, or a band to
         infinity whose density does not fall); the message names the field.
     """
-    from ..errors import DesignFileError
 
     f_start = float(settings.f_start)
     f_stop = math.inf if settings.f_stop == sp.oo else float(settings.f_stop)

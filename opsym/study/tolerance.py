@@ -37,11 +37,12 @@ import numpy as np
 import sympy as sp
 
 from ..errors import BudgetError
-from ._inputs import check_values
-from ._numbers import Exact, compile_columns, exact_number, relative_sensitivities
+from ..numeric._inputs import check_values
+from ..numeric._numbers import Exact, compile_columns, exact_number, relative_sensitivities
+from ..numeric.params import ResistorParams
+from ..numeric.units import format_si, parse_fraction, parse_quantity
+from ..output.tables import Table
 from ._views import TableViews
-from .params import ResistorParams
-from .units import format_si, parse_fraction, parse_quantity
 
 __all__ = [
     "MAX_CORNERS",
@@ -310,7 +311,6 @@ class ToleranceStudy(TableViews):
 
     def table(self):
         """The side-by-side comparison as an :class:`opsym.output.tables.Table`."""
-        from ..output.tables import Table
 
         def rel(v: float) -> str:
             if self.nominal == 0:

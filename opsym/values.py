@@ -43,7 +43,7 @@ write ``2*R1``, not ``2R1`` (which is 2.1 in the R notation).
 Examples
 --------
 >>> import sympy as sp
->>> from opsym.io.values import parse_value
+>>> from opsym.values import parse_value
 >>> parse_value("4.7n", where="C1")
 47/10000000000
 >>> parse_value("4k7", where="R1"), parse_value("1.5 MΩ", where="R2")
@@ -64,13 +64,16 @@ opsym.errors.ValueSyntaxError: R9: ...: unknown name 'R1.__class__' at column 1;
 from __future__ import annotations
 
 import difflib
+import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 from fractions import Fraction
+from numbers import Real
+from typing import Any
 
 import sympy as sp
 
-from ..errors import ValueRangeError, ValueSyntaxError
+from .errors import InvalidValueError, ValueRangeError, ValueSyntaxError
 
 __all__ = [
     "MAX_DEPTH",
@@ -78,6 +81,7 @@ __all__ = [
     "PREFIXES",
     "UNITS",
     "parse_value",
+    "to_exact",
 ]
 
 #: Longest text accepted, in characters.
@@ -583,3 +587,46 @@ def parse_value(
             f"{where}: the value is {len(text)} characters long; at most {MAX_LENGTH} are read"
         )
     return _Reader(text, where, names, unit).parse()
+
+
+def to_exact(value: Any, where: str, *, unit: str | None = None) -> sp.Expr:
+    """Turn a user number or expression into an exact SymPy value.
+
+    Floats become the exact rational of their shortest decimal form
+    (``0.1`` → ``1/10``), so the algebra stays exact; text goes through the
+    whitelist value parser :func:`parse_value` (``"10k"``),
+    the one reader of values in opsym, which checks a unit written in the
+    text against ``unit`` when given. ``where`` names the field for messages.
+
+    Examples
+    --------
+    >>> to_exact(4.7e-9, "C1")
+    47/10000000000
+    >>> to_exact("10k", "R1")
+    10000
+    """
+    if isinstance(value, bool) or value is None:
+        raise InvalidValueError(f"{where}: {value!r} is not a value; give a number or expression")
+    if isinstance(value, str):
+        return parse_value(value, where=where, unit=unit)  # the whitelist parser
+    if isinstance(value, sp.Basic):
+        if not isinstance(value, sp.Expr):
+            raise InvalidValueError(f"{where}: {value!r} is not an expression")
+        if value.has(sp.nan, sp.zoo, sp.oo, -sp.oo):
+            raise InvalidValueError(f"{where}: value {value} is not finite; give a finite value")
+        if isinstance(value, sp.Float):
+            return sp.Rational(repr(float(value)))
+        return value
+    if isinstance(value, int):
+        return sp.Integer(value)
+    if isinstance(value, Fraction):
+        return sp.Rational(value.numerator, value.denominator)
+    if isinstance(value, Real):  # float, numpy scalars
+        x = float(value)
+        if not math.isfinite(x):
+            raise InvalidValueError(f"{where}: value {x} is not finite; give a finite number")
+        return sp.Rational(repr(x))
+    raise InvalidValueError(
+        f"{where}: cannot use a {type(value).__name__} as a value; "
+        "give a number, a SymPy expression or text such as '10k'"
+    )

@@ -37,11 +37,12 @@ import numpy as np
 
 from ..errors import BudgetError
 from ..model.limits import check_float
-from ._inputs import check_values
+from ..numeric._inputs import check_values
+from ..numeric.params import REFERENCE_TEMPERATURE, OpAmpParams
+from ..numeric.units import format_si
+from ..output.tables import Table
 from ._views import TableViews
 from .budget import Budget, _evaluate, _prepare
-from .params import REFERENCE_TEMPERATURE, OpAmpParams
-from .units import format_si
 
 __all__ = ["TemperatureSweep", "budget_over_temperature"]
 
@@ -96,7 +97,6 @@ class TemperatureSweep(TableViews):
 
     def table(self, top: int = 3):
         """Temperature, totals and the largest contributors, as a Table."""
-        from ..output.tables import Table
 
         names = self.sources()[:top]
         labels = {r.source: r.label for r in self.worst_budget.rows}
@@ -147,13 +147,13 @@ def budget_over_temperature(
     Parameters
     ----------
     result, values, opamps
-        As for :func:`~opsym.numeric.budget.error_budget`.
+        As for :func:`~opsym.study.budget.error_budget`.
     low, high, step : float
         The grid in °C (both ends and 25 °C always included).
     temperatures : sequence of float, optional
         An explicit grid instead.
     **options
-        Passed on to :func:`~opsym.numeric.budget.error_budget` (``resistors``,
+        Passed on to :func:`~opsym.study.budget.error_budget` (``resistors``,
         ``grade``, ``signal``, ``adc``, ``full_scale``, ``progress``...).
     """
     unknown = set(options) - {
