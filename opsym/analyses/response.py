@@ -9,6 +9,7 @@ is their ``s = 0`` limit.
 
 from __future__ import annotations
 
+import math
 from typing import Any
 
 import numpy as np
@@ -17,6 +18,7 @@ import sympy as sp
 from ..errors import InvalidValueError, NoSolutionError
 from ..model.limits import check_float, check_frequencies
 from ..numeric.frequency import HALF_POWER_DB, bandwidth, evaluation_form, evaluator
+from ..numeric.passband import Passband, passband
 
 __all__ = ["FrequencyResponse"]
 
@@ -81,6 +83,10 @@ class FrequencyResponse:
     ) -> float:
         """Frequency (Hz) where ``|H|`` first falls ``drop_db`` below its DC value.
 
+        Found exactly from the rational function (:func:`opsym.numeric.frequency.bandwidth`);
+        raises :class:`~opsym.InvalidValueError` when the DC gain is zero or
+        infinite, or ``|H|`` never falls that far (use :meth:`passband`).
+
         Examples
         --------
         >>> import opsym
@@ -97,31 +103,113 @@ class FrequencyResponse:
         if not drop_db > 0:
             raise InvalidValueError(f"bandwidth: drop_db = {drop_db:g}; give a drop > 0, e.g. 3")
         self._need_s("bandwidth")
-        sym = self._signal(source) if source is None else self._source_symbol(source)
 
-        return bandwidth(evaluator(self._numeric_form(sym), f"the coefficient of {sym}"),
-                         drop_db)  # fmt: skip
+        return bandwidth(self._exact_form(self._pick(source)), drop_db)
+
+    def passband(
+        self, source: str | sp.Symbol | None = None, drop_db: float = HALF_POWER_DB
+    ) -> Passband:
+        """The response's kind, band edges and figures of merit.
+
+        Exact, from the rational function: :func:`opsym.numeric.passband.passband`.
+
+        Examples
+        --------
+        >>> import opsym
+        >>> c = opsym.Circuit("AC-coupled follower")
+        >>> c.voltage_source("Vin", "in", "0")
+        >>> c.capacitor("C1", "in", "p", value="1u")
+        >>> c.resistor("R1", "p", "0", value="100k")
+        >>> c.opamp("U1", plus="p", minus="out", out="out")
+        >>> band = c.analyze("out", domain="s").passband()
+        >>> band.kind, round(band.edges[0], 4)  # 1/(2π·R1·C1)
+        ('high-pass', 1.5915)
+        """
+        self._need_s("passband")
+        return passband(self._exact_form(self._pick(source)), drop_db)
+
+    def gain_error_frequency(self, signal: str | sp.Symbol | None = None) -> tuple[float, str]:
+        """Where the gain error is quoted: ``(f, "DC")`` or ``(f, "passband")``.
+
+        0 Hz when the ideal gain (nullor op-amps) is finite and nonzero there;
+        otherwise in the passband: the ideal response's peak for a band-pass,
+        the geometric middle ``√(f1·f2)`` of this response's −3 dB band when it
+        is a band-pass (an AC-coupled stage with a real op-amp), or a thousand
+        times the edge of a high-pass (its response there is within 1 ppm of
+        its high-frequency value for a first-order edge).
+
+        Raises
+        ------
+        NoSolutionError
+            No passband is found (give the frequency yourself).
+
+        Examples
+        --------
+        >>> import opsym
+        >>> c = opsym.Circuit("AC-coupled follower")
+        >>> c.voltage_source("Vin", "in", "0")
+        >>> c.capacitor("C1", "in", "p", value="1u")
+        >>> c.resistor("R1", "p", "0", value="100k")
+        >>> c.opamp("U1", plus="p", minus="out", out="out", gain="pole")
+        >>> res = c.analyze("out", domain="s", values={"U1.A0": "1M", "U1.GBW": "1M"})
+        >>> f, where = res.gain_error_frequency()
+        >>> round(f, 1), where  # √(1.5915 Hz · 1 MHz)
+        (1261.6, 'passband')
+        """
+        self._need_s("gain_error_frequency")
+        sym = self._signal(signal)
+        ideal = self.ideal().passband(sym)
+        if ideal.reference == "DC":
+            return 0.0, "DC"
+        if ideal.kind == "band-pass" and ideal.centre is not None:
+            return ideal.centre, "passband"
+        real = self.passband(sym)
+        if real.kind == "band-pass":
+            return math.sqrt(real.edges[0] * real.edges[1]), "passband"
+        if ideal.kind == "high-pass":
+            return 1000 * ideal.edges[0], "passband"
+        raise NoSolutionError(
+            f"the ideal gain from {sym} is a {ideal.kind} response with no passband "
+            "to quote a gain error in; give the frequency (FrequencySection(reference=...))"
+        )
 
     def gain_error_response(self, f: Any, signal: str | sp.Symbol | None = None) -> np.ndarray:
         """Complex fractional gain error ``H/H_ideal − 1`` at ``f`` (Hz).
 
         ``|…|`` is the magnitude error the trade quotes; for a single-pole
-        op-amp well above its pole it is close to ``f·NG/GBW``.
+        op-amp well above its pole it is close to ``f·NG/GBW``. Where the ideal
+        gain is zero (0 Hz for a high-pass or band-pass) the error is not
+        defined and is ``nan``; :meth:`gain_error_frequency` says where to
+        quote it.
+
+        Raises
+        ------
+        NoSolutionError
+            The ideal gain from ``signal`` is zero at every frequency.
         """
         check_frequencies(f, "gain_error_response f")
         self._need_s("gain_error_response")
         sym = self._signal(signal)
+        if self.ideal().coefficient(sym) == 0:
+            raise NoSolutionError(f"the ideal gain from {sym} is zero; no fractional error")
         h = self.response(f, sym)
         h0 = self.response(f, sym, ideal=True)
-        if np.any(h0 == 0):
-            raise NoSolutionError(f"the ideal gain from {sym} is zero at some frequency")
-        return h / h0 - 1
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.where(h0 == 0, complex("nan"), h / np.where(h0 == 0, 1, h0) - 1)
 
     def _need_s(self, what: str) -> None:
         if self._domain != "s":
             raise InvalidValueError(
                 f"{what} needs a Laplace-domain result; analyse with domain='s'"
             )
+
+    def _pick(self, source: Any) -> sp.Symbol:
+        return self._signal(source) if source is None else self._source_symbol(source)
+
+    def _exact_form(self, sym: sp.Symbol) -> sp.Expr:
+        """The coefficient as one rational function: a product as it is, else collected."""
+        compact = self.compact_coefficient(sym)
+        return compact if not compact.is_Add else self.coefficient(sym)
 
     def _numeric_form(self, sym: sp.Symbol) -> sp.Expr:
 

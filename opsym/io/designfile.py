@@ -82,6 +82,7 @@ from .design import (
     NullRequest,
     opamp_values,
 )
+from .formats import load, reader
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -90,7 +91,6 @@ else:  # pragma: no cover - Python 3.10 reads TOML with the tomli backport
 
 __all__ = ["load_design", "parse_design"]  # the Design record lives in .design
 
-_MAX_BYTES = 1_000_000
 _TOP_KEYS = ("format", "title", "notes", "output", "input", "rails", *ELEMENT_TABLES)
 _SETTING_TABLES = ("analysis", "budget", "tolerance", "response", "noise")
 
@@ -110,24 +110,10 @@ def load_design(path: str | os.PathLike[str]) -> Design:
         raise ArgumentTypeError(
             f"load_design: expected a file path such as 'amp.toml', not a {type(path).__name__}"
         )
-    name = os.fspath(path)
-    try:
-        with open(name, "rb") as f:
-            data = f.read(_MAX_BYTES + 1)
-    except OSError as err:
-        reason = err.strerror or str(err)
-        raise DesignFileError(f"{name}: cannot read the design file: {reason}") from None
-    if len(data) > _MAX_BYTES:
-        raise DesignFileError(f"{name}: larger than {_MAX_BYTES} bytes; is it a design file?")
-    try:
-        text = data.decode("utf-8")
-    except UnicodeDecodeError as err:
-        raise DesignFileError(
-            f"{name}: not UTF-8 text (byte {err.start}); save the file as UTF-8"
-        ) from None
-    return parse_design(text, filename=name)
+    return load(path)  # by suffix: this module reads .toml
 
 
+@reader(".toml")
 def parse_design(text: str, *, filename: str = "<text>") -> Design:
     """Read a design from TOML text; ``filename`` is used in messages."""
     expect_text(text, "parse_design text", "the TOML text of a design file")

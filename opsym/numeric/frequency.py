@@ -37,6 +37,7 @@ from ..errors import BudgetError, InvalidValueError
 from ..model.symbols import LAPLACE
 from ..values import to_exact
 from ._quadrature import adaptive
+from .passband import passband
 
 __all__ = [
     "HALF_POWER_DB",
@@ -355,37 +356,44 @@ def noise_bandwidth(
     return power / h0**2
 
 
-def bandwidth(
-    transfer: Callable[[np.ndarray], np.ndarray],
-    drop_db: float = HALF_POWER_DB,
-    f_max: float = 1e12,
-) -> float:
+def bandwidth(transfer: sp.Expr, drop_db: float = HALF_POWER_DB) -> float:
     """First frequency where ``|H|`` falls ``drop_db`` below ``|H(0)|`` (default: −3 dB).
 
-    Found on a grid of 20 points per decade from 1 mHz, then by bisection in
-    ``ln f`` to a relative 1e-12. Raises when ``|H|`` never falls that far
-    below ``f_max``.
+    ``transfer`` is ``H(s)`` itself, a rational function of ``s`` with numbers
+    only (a sampled function could miss a narrow notch between its points).
+    The edge is a root of the exact ``|H(jω)|²`` polynomial, isolated and
+    refined by :func:`opsym.numeric.passband.passband`, so any Q and any
+    frequency (below 1 mHz, above 1 THz) works; use that function for the
+    edges of a high-pass, band-pass or notch and their figures of merit.
+
+    Raises
+    ------
+    InvalidValueError
+        ``|H(0)|`` is zero or infinite (a high-pass, band-pass, integrator), or
+        ``|H|`` is never ``drop_db`` below it at any frequency; the message
+        says which.
+
+    Examples
+    --------
+    >>> from opsym.model.symbols import LAPLACE as s
+    >>> round(bandwidth(1 / (1 + s / (2 * sp.pi * 1e-4))) * 1e4, 12)  # a pole at 100 µHz
+    1.0
     """
-    h0 = abs(transfer(np.array([0.0]))[0])
-    if not h0 > 0 or not math.isfinite(h0):
-        raise InvalidValueError("the DC gain is zero or infinite; the bandwidth is not defined")
-    target = h0 * 10 ** (-drop_db / 20)
-    f = frequency_grid(1e-3, f_max, 20)
-    mag = np.abs(transfer(f))
-    below = np.nonzero(mag < target)[0]
-    if below.size == 0:
+    if callable(transfer) and not isinstance(transfer, sp.Basic):
         raise InvalidValueError(
-            f"|H| stays within {drop_db:g} dB of its DC value up to {f_max:g} Hz; "
-            "no bandwidth to report"
+            "bandwidth needs H(s) as an expression in s, not a function of f: a sampled "
+            "function can miss a narrow notch; pass the expression given to evaluator()"
         )
-    i = int(below[0])
-    if i == 0:
-        return float(f[0])
-    lo, hi = math.log(f[i - 1]), math.log(f[i])
-    while hi - lo > 1e-12:
-        mid = 0.5 * (lo + hi)
-        if abs(transfer(np.array([math.exp(mid)]))[0]) < target:
-            hi = mid
-        else:
-            lo = mid
-    return math.exp(0.5 * (lo + hi))
+    band = passband(transfer, drop_db, reference="DC")
+    if band.reference != "DC":
+        dc = "infinite" if math.isinf(band.dc_gain) else "zero"
+        raise InvalidValueError(
+            f"|H(0)| is {dc} ({band.kind} response), so no bandwidth is measured from DC; "
+            "its band edges come from opsym.numeric.passband.passband (Result.passband)"
+        )
+    if not band.edges:
+        raise InvalidValueError(
+            f"|H| is never {drop_db:.3g} dB below its DC value {band.dc_gain:.6g} at any "
+            "frequency (checked exactly); no bandwidth to report"
+        )
+    return band.edges[0]

@@ -74,18 +74,33 @@ def _table_latex(table: Table) -> list[str]:
 
 def _fraction_text(x: float) -> str:
     """A small fraction the way the trade quotes it: ppm below 0.1 %, else %."""
+    if not math.isfinite(x):
+        return "n/a"  # the ideal gain is zero there: no fractional error
     if abs(x) < 1e-3:
         return f"{x * 1e6:.3g} ppm"
     return f"{x * 100:.4g} %"
 
 
-def _default_points(bandwidth: float | None) -> tuple[float, ...]:
-    """DC, the whole decades from three below the bandwidth, and the bandwidth itself."""
-    if bandwidth is None:
+def _default_points(band: Any) -> tuple[float, ...]:
+    """The table's frequencies: for a response with a DC reference, DC, the whole
+    decades from three below the bandwidth, and the bandwidth; otherwise DC, whole
+    decades from one below the first edge to one above the last, and the edges
+    and the centre."""
+    if band is None or not band.edges:
         return (0.0, 10.0, 100.0, 1e3, 1e4, 1e5)
-    top = math.floor(math.log10(bandwidth))
-    decades = [10.0**k for k in range(top - 3, top + 1) if 10.0**k < bandwidth]
-    return (0.0, *decades, bandwidth)
+    if band.reference == "DC":
+        bandwidth = band.edges[0]
+        top = math.floor(math.log10(bandwidth))
+        decades = [10.0**k for k in range(top - 3, top + 1) if 10.0**k < bandwidth]
+        return (0.0, *decades, bandwidth)
+    low = math.floor(math.log10(band.edges[0])) - 1
+    high = math.ceil(math.log10(band.edges[-1])) + 1
+    if high - low > 8:  # a wide band: every second decade
+        decades = [10.0**k for k in range(low, high + 1, 2)]
+    else:
+        decades = [10.0**k for k in range(low, high + 1)]
+    marks = [*band.edges, *([band.centre] if band.centre is not None else [])]
+    return (0.0, *sorted({*decades, *marks}))
 
 
 def response_table(result: Any, points: Iterable[float], source: Any = None) -> Table:
@@ -131,7 +146,8 @@ def response_table(result: Any, points: Iterable[float], source: Any = None) -> 
 
 @dataclass(frozen=True)
 class FrequencySection:
-    """Transfer function, bandwidth, response table and figures of a ``domain="s"`` result.
+    """Transfer function, band edges, gain error, response table and figures of a
+    ``domain="s"`` result.
 
     Parameters
     ----------
@@ -141,16 +157,39 @@ class FrequencySection:
         The source whose transfer function is shown (default: the only signal).
     points : iterable of float, optional
         Frequencies (Hz) of the table (default: DC, whole decades from three
-        below the bandwidth, and the bandwidth).
+        below the bandwidth, and the bandwidth; for a high-pass, band-pass or
+        notch, whole decades around its edges, the edges and the centre).
     figures : iterable of (path, caption) or path
         Figures to include (e.g. from :func:`~opsym.output.figures.bode_chart`).
+    reference : float, optional
+        Where (Hz) to quote the gain error; default
+        :meth:`~opsym.analyses.response.FrequencyResponse.gain_error_frequency`
+        (0 Hz, or the passband when the ideal gain is zero at DC).
+
+    Examples
+    --------
+    >>> import opsym
+    >>> c = opsym.Circuit("AC-coupled follower")
+    >>> c.voltage_source("Vin", "in", "0")
+    >>> c.capacitor("C1", "in", "p", value="1u")
+    >>> c.resistor("R1", "p", "0", value="100k")
+    >>> c.opamp("U1", plus="p", minus="out", out="out", gain="pole", bias=False)
+    >>> res = c.analyze("out", domain="s", values={"U1.A0": "1M", "U1.GBW": "1M"})
+    >>> lines = [x for x in FrequencySection(res).markdown().splitlines() if x.startswith("- ")]
+    >>> print(lines[0][:70])  # then f0, |H(f0)| and Q
+    - Response (exact, from H(s)): band-pass: −3 dB at 1.592 Hz and 1 MHz
+    >>> print(lines[1][:50])  # f·NG/GBW = 1.262 kHz/1 MHz
+    - Gain error at f = 1.262 kHz (passband): 0.1262 %
     """
 
     result: Any
     source: Any = None
     points: Iterable[float] | None = None
     figures: Iterable[Any] = ()
+    reference: float | None = None
     _bandwidth: float | None = field(default=None, init=False, repr=False)
+    _passband: Any = field(default=None, init=False, repr=False)
+    _gain_error: str | None = field(default=None, init=False, repr=False)
 
     def __post_init__(self) -> None:
         if getattr(self.result, "domain", None) != "s":
@@ -159,11 +198,19 @@ class FrequencySection:
             )
         object.__setattr__(self, "figures", _figure_list(self.figures))
         try:
+            band = self.result.passband(self._symbol())
+        except InvalidValueError:
+            band = None  # a zero transfer: the note says so
+        try:
             bw: float | None = self.result.bandwidth(self._symbol())
-        except (InvalidValueError, NoSolutionError):
-            bw = None  # no −3 dB point (a high-pass, an all-pass): the note says so
+        except InvalidValueError:
+            bw = None  # |H(0)| zero or infinite, or never 3 dB below it
+        object.__setattr__(self, "_passband", band)
         object.__setattr__(self, "_bandwidth", bw)
-        points = _default_points(bw) if self.points is None else tuple(self.points)
+        f_error = self._gain_error_line()
+        points = _default_points(band) if self.points is None else tuple(self.points)
+        if self.points is None and f_error is not None and f_error > 0:
+            points = tuple(sorted({*points, f_error}))
         object.__setattr__(self, "points", tuple(float(p) for p in points))
 
     def _symbol(self) -> Any:
@@ -171,24 +218,61 @@ class FrequencySection:
             return self.result._signal(None)
         return self.result._source_symbol(self.source)
 
+    def _gain_error_line(self) -> float | None:
+        """Set the gain-error sentence; return the frequency it is quoted at."""
+        sym = self._symbol()
+        if not (_has_gain_model(self.result) and sym in self.result.signals):
+            return None
+        if self.reference is not None:
+            f, where = float(self.reference), "given"
+            if not (f >= 0 and math.isfinite(f)):
+                raise InvalidValueError(
+                    f"FrequencySection reference={self.reference!r}: give a finite frequency "
+                    ">= 0 Hz"
+                )
+        else:
+            try:
+                f, where = self.result.gain_error_frequency(sym)
+            except NoSolutionError as err:
+                object.__setattr__(self, "_gain_error", f"Gain error: not quoted ({err}).")
+                return None
+        error = abs(complex(self.result.gain_error_response(np.array([f]), sym)[0]))
+        text = (f"Gain error at f = {format_si(f, 'Hz', 4)} ({where}): {_fraction_text(error)} "
+                "(|H/H_ideal − 1|, H_ideal with ideal op-amps).")  # fmt: skip
+        object.__setattr__(self, "_gain_error", text)
+        return f
+
     @property
     def bandwidth(self) -> float | None:
-        """The −3 dB bandwidth in Hz, or ``None`` when ``|H|`` never falls 3 dB."""
+        """The −3 dB bandwidth (re DC) in Hz, or ``None`` when ``|H(0)|`` is zero or
+        ``|H|`` never falls 3 dB below it."""
         return self._bandwidth
+
+    @property
+    def passband(self) -> Any:
+        """The :class:`~opsym.numeric.passband.Passband` (``None`` for a zero transfer)."""
+        return self._passband
 
     def table(self) -> Table:
         """The response table (:func:`response_table`) at :attr:`points`."""
         return response_table(self.result, self.points or (), self.source)
 
-    def _bandwidth_text(self) -> str:
-        if self._bandwidth is None:
-            return "Bandwidth: |H| does not fall 3 dB below its DC value."
-        return f"Bandwidth (−3 dB): {format_si(self._bandwidth, 'Hz', 4)}."
+    def _lines(self) -> list[str]:
+        band = self._passband
+        if band is None:
+            first = "Bandwidth: not defined (the transfer function is zero)."
+        elif band.kind == "low-pass":
+            first = f"Bandwidth (−3 dB): {format_si(band.edges[0], 'Hz', 4)}."
+        else:
+            text = band.describe(lambda f: format_si(f, "Hz", 4))
+            first = f"Response (exact, from H(s)): {text}."
+        return [first] + ([self._gain_error] if self._gain_error else [])
 
     def latex(self) -> str:
         """The section as LaTeX (needs ``amsmath``, ``booktabs``, ``graphicx``)."""
         out = [r"\subsection*{Frequency response}", r"\[", transfer_latex(self.result,
-               self.source), r"\]", latex_text(self._bandwidth_text())]  # fmt: skip
+               self.source), r"\]"]  # fmt: skip
+        out += [r"\par " + latex_text(line) for line in self._lines()]
         out += _table_latex(self.table())
         out += _figures_latex(self.figures)  # type: ignore[arg-type]  # normalised above
         return "\n".join(out)
@@ -196,7 +280,7 @@ class FrequencySection:
     def markdown(self) -> str:
         """The section as Markdown, formulas in ``$$`` blocks."""
         out = ["### Frequency response", "", "$$", transfer_latex(self.result, self.source), "$$"]
-        out += ["", f"- {self._bandwidth_text()}", "", self.table().to_markdown()]
+        out += ["", *(f"- {line}" for line in self._lines()), "", self.table().to_markdown()]
         for line in _figures_markdown(self.figures):  # type: ignore[arg-type]
             out += ["", line]
         return "\n".join(out)

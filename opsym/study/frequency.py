@@ -54,7 +54,7 @@ from typing import Any
 import numpy as np
 import sympy as sp
 
-from ..errors import BudgetError, DesignFileError, InvalidValueError
+from ..errors import BudgetError, DesignFileError, InvalidValueError, NoSolutionError
 from ..io.design import Design, NoiseSettings, ResponseSettings
 from ..model.elements import CurrentSource, VoltageSource
 from ..numeric.frequency import HALF_POWER_DB, frequency_grid
@@ -116,11 +116,20 @@ class ResponseReport:
         The grid's ends, Hz.
     bandwidth : float or None
         Where ``|H|`` first falls 3.01 dB below its DC value (``None``: never,
-        or the DC gain is zero).
+        or the DC gain is zero or infinite).
     dc_gain : float
         ``|H(0)|``.
     grid, points : tuple of ResponsePoint
         The logarithmic grid, and the frequencies the file lists in ``at``.
+    passband : Passband or None
+        The kind of response, its −3 dB edges and figures of merit, found
+        exactly (:func:`opsym.numeric.passband.passband`).
+    reference : ResponsePoint or None
+        Where the gain error is quoted: 0 Hz, or the passband when the ideal
+        gain is zero at DC (``Result.gain_error_frequency``); ``None``
+        without an op-amp gain model.
+    reference_where : str
+        ``"DC"`` or ``"passband"``.
     """
 
     result: Any
@@ -134,11 +143,18 @@ class ResponseReport:
     dc_gain: float
     grid: tuple[ResponsePoint, ...]
     points: tuple[ResponsePoint, ...] = ()
+    passband: Any = None
+    reference: ResponsePoint | None = None
+    reference_where: str = ""
 
     def tables(self) -> list[Table]:
         """The grid table and, if frequencies were listed, the gain-error table."""
         notes = [f"{self._gain(self.dc_gain)} at DC; {self._bandwidth()}."]
         notes.append("Gain error: |H/H_ideal − 1|, H_ideal the same circuit with ideal op-amps.")
+        if self.reference is not None:
+            p = self.reference
+            notes.append(f"Gain error at f = {format_si(p.frequency, 'Hz')} "
+                         f"({self.reference_where}): {_percent(abs(p.error))}.")  # fmt: skip
         band = f"{format_si(self.f_start, 'Hz')} to {format_si(self.f_stop, 'Hz')}"
         db = "dB" if self.unit == "V/V" else "dBΩ"
         grid = Table(
@@ -186,8 +202,11 @@ class ResponseReport:
         return f"|H| = {format_si(magnitude, 'V/A')}"
 
     def _bandwidth(self) -> str:
+        band = self.passband
+        if band is not None and band.kind != "low-pass":
+            return band.describe(lambda f: format_si(f, "Hz"))
         if self.bandwidth is None:
-            return "no −3 dB point below 1 THz"
+            return "no −3 dB bandwidth (the transfer function is zero)"
         return f"−3 dB bandwidth {format_si(self.bandwidth, 'Hz')}"
 
     def _magnitude(self, x: complex) -> str:
@@ -271,14 +290,19 @@ def run_response(
     except BudgetError as err:
         raise BudgetError(f"{design.source}: [response]: {err} ({_DESIGN_HINT})") from err
     try:
+        band = numeric.passband(signal, HALF_POWER_DB)
+    except InvalidValueError:  # a zero transfer function
+        band = None
+    try:
         bandwidth: float | None = numeric.bandwidth(signal, HALF_POWER_DB)
     except InvalidValueError:
         bandwidth = None
+    reference, where = _reference(numeric, signal)
     source = design.circuit.element(signal)
     output = design.output if isinstance(design.output, str) else " - ".join(design.output)
     return ResponseReport(
         numeric, symbolic, signal, output, "V/A" if isinstance(source, CurrentSource) else "V/V",
-        f_start, f_stop, bandwidth, dc_gain, grid, listed,
+        f_start, f_stop, bandwidth, dc_gain, grid, listed, band, reference, where,
     )  # fmt: skip
 
 
@@ -323,6 +347,17 @@ def _element_values(design: Design, values: Mapping[str, float]) -> dict[str, An
     }
     exact = dict(design.values)
     return {k: exact.get(k, v) for k, v in values.items() if k not in signals}
+
+
+def _reference(result: Any, signal: str) -> tuple[ResponsePoint | None, str]:
+    """The gain and ideal gain where the gain error is quoted (DC, or the passband)."""
+    if all(a.gain is None for a in result.circuit.opamps):
+        return None, ""  # ideal op-amps: no gain error
+    try:
+        f, where = result.gain_error_frequency(signal)
+    except (NoSolutionError, InvalidValueError):
+        return None, ""
+    return _points(result, signal, np.array([f]))[0], where
 
 
 def _points(result: Any, signal: str, f: np.ndarray) -> tuple[ResponsePoint, ...]:

@@ -6,6 +6,7 @@ one run per example, and bad files checked together where one run can show it.
 
 from __future__ import annotations
 
+import math
 import os
 import subprocess
 import sys
@@ -367,3 +368,107 @@ def test_noise_without_densities_is_a_user_error(tmp_path, capsys):
     err = capsys.readouterr().err
     assert err.startswith("opsym: error: ") and "[noise]" in err and "U1.en" in err
     assert "en_typ" in err and "Traceback" not in err
+
+
+# -- high-pass, band-pass and AC-coupled designs -----------------------------------------
+
+AC_COUPLED = """\
+title = "AC-coupled non-inverting x11"
+output = "out"
+[voltage-sources]
+Vin = { plus = "in", minus = "0", value = "1 V" }
+[capacitors]
+C1 = { between = ["in", "p"], value = "1u" }
+[resistors]
+R3 = { between = ["p", "0"], value = "100k" }
+R1 = { between = ["n", "0"], value = "1k" }
+R2 = { between = ["n", "out"], value = "10k" }
+[opamps.U1]
+plus = "p"
+minus = "n"
+out = "out"
+gain = "pole"
+A0 = "100 dB"
+GBW = "10 MHz"
+[response]
+at = ["1 kHz"]
+"""
+
+MFB_BAND_PASS = """\
+title = "MFB band-pass"
+output = "out"
+[voltage-sources]
+Vin = { plus = "in", minus = "0", value = "1 V" }
+[resistors]
+R1 = { between = ["in", "a"], value = "10k" }
+R3 = { between = ["n", "out"], value = "1M" }
+[capacitors]
+C1 = { between = ["a", "n"], value = "10n" }
+C2 = { between = ["a", "out"], value = "10n" }
+[opamps.U1]
+plus = "0"
+minus = "n"
+out = "out"
+gain = "pole"
+A0 = "120 dB"
+GBW = "10 MHz"
+[response]
+from = "1 Hz"
+to = "100 kHz"
+"""
+
+
+def _number(text: str, before: str, after: str) -> float:
+    """The number between ``before`` and ``after`` in ``text``, SI prefix applied."""
+    from opsym.numeric.units import parse_quantity
+
+    start = text.index(before) + len(before)
+    return parse_quantity(text[start : text.index(after, start)].strip(), where=before)
+
+
+def test_ac_coupled_stage_gets_a_note_and_figures(tmp_path):
+    # The ideal gain is zero at 0 Hz, so the gain error is quoted in the passband (main:
+    # "the ideal gain from Vin is zero at some frequency", no note, no figures).
+    (tmp_path / "ac.toml").write_text(AC_COUPLED, encoding="utf-8")
+    run = opsym("report", "ac.toml", "--markdown", "note.md", "--figures", "figs", cwd=tmp_path)
+    assert run.returncode == 0, run.stderr
+    assert sorted(p.name for p in (tmp_path / "figs").iterdir()) == ["bode.png", "gain-error.png"]
+    md = (tmp_path / "note.md").read_text(encoding="utf-8")
+    line = next(x for x in md.splitlines() if x.startswith("- Response (exact"))
+    # Lower edge: the input RC high-pass, 1/(2π·R3·C1) = 1.5915 Hz (Horowitz & Hill, RC
+    # filters [mem]). Upper edge: the single-pole closed loop, (GBW/A0)·(1 + A0·β) =
+    # 909.19 kHz with β = 1/11, A0 = 1e5, about GBW/NG (Franco, ch. 6 [mem]).
+    f1 = _number(line, "−3 dB at ", " and")
+    f2 = _number(line, " and ", " (re")
+    assert f1 == pytest.approx(1 / (2 * math.pi * 1e5 * 1e-6), rel=1e-3)
+    assert f2 == pytest.approx(1e2 * (1 + 1e5 / 11), rel=1e-4)
+    # Gain error −1/(1 + A(jω)·β), A = A0/(1 + j·f·A0/GBW) (Franco, ch. 1 and 6 [mem]),
+    # quoted at the geometric middle of the passband, √(f1·f2).
+    gain_line = next(x for x in md.splitlines() if x.startswith("- Gain error at f = "))
+    f = math.sqrt(1 / (2 * math.pi * 0.1) * 1e2 * (1 + 1e5 / 11))
+    assert _number(gain_line, "f = ", " (passband)") == pytest.approx(f, rel=1e-3)
+    a = 1e5 / (1 + 1j * f * 1e5 / 1e7)
+    want = abs(1 / (1 + a / 11))
+    assert _number(gain_line, "(passband): ", " %") / 100 == pytest.approx(want, rel=1e-3)
+    assert "| 0 Hz | 0 V/V |" in md and "| n/a |" in md  # no error where the ideal is 0
+
+
+def test_band_pass_design_note_has_its_figures_of_merit(tmp_path):
+    # Multiple-feedback band-pass with C1 = C2 = C: f0 = 1/(2π·C·√(R1·R3)) = 159.15 Hz,
+    # Q = ½·√(R3/R1) = 5, centre gain −R3/(2·R1) = −50 (Schaumann & Van Valkenburg,
+    # "Design of Analog Filters", MFB band-pass [mem]); GBW = 10 MHz moves them < 0.1 %.
+    (tmp_path / "mfb.toml").write_text(MFB_BAND_PASS, encoding="utf-8")
+    note = tmp_path / "note.md"
+    assert main(["report", str(tmp_path / "mfb.toml"), "-q", "--markdown", str(note)]) == 0
+    md = note.read_text(encoding="utf-8")
+    line = next(x for x in md.splitlines() if x.startswith("- Response (exact"))
+    assert "band-pass" in line
+    f0, q = 1 / (2 * math.pi * 1e-8 * 1e5), 5.0
+    assert _number(line, "f0 = ", ",") == pytest.approx(f0, rel=1e-3)
+    assert float(line.rsplit("Q = ", 1)[1].rstrip(".")) == pytest.approx(q, rel=1e-3)
+    assert _number(line, "|H(f0)| = ", ",") == pytest.approx(50.0, rel=1e-3)
+    root = math.sqrt(1 + 1 / (4 * q * q))  # second-order edges f0·(√(1 + 1/4Q²) ∓ 1/2Q)
+    assert _number(line, "−3 dB at ", " and") == pytest.approx(f0 * (root - 0.1), rel=1e-3)
+    assert _number(line, " and ", " (re") == pytest.approx(f0 * (root + 0.1), rel=1e-3)
+    # The gain error is quoted at the ideal response's centre, 159.2 Hz.
+    assert "- Gain error at f = 159.2 Hz (passband): " in md
