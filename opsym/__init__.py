@@ -21,6 +21,7 @@ Examples
 from .analyses.noise import NoiseResult
 from .analyses.result import Result, SourceInfo
 from .errors import (
+    ArgumentTypeError,
     BudgetError,
     CircuitError,
     DesignFileError,
@@ -84,6 +85,7 @@ __version__ = "0.1.0"
 
 __all__ = [
     "ADC",
+    "ArgumentTypeError",
     "BiasCurrents",
     "BiasLaw",
     "Budget",

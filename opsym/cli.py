@@ -24,7 +24,10 @@ Examples
 from __future__ import annotations
 
 import argparse
+import contextlib
+import os
 import sys
+import threading
 import time
 from collections.abc import Sequence
 from pathlib import Path
@@ -174,18 +177,24 @@ def _rewrite(args: argparse.Namespace) -> int:
 
 def _report(args: argparse.Namespace) -> int:
 
+    notes = [p for p in (args.latex, args.markdown) if p is not None]
+    _refuse_clashes(notes, [Path(args.file)])  # before the work, not after it
     design = designfile.load_design(args.file)
     progress = None if args.quiet else _Progress(sys.stderr)
-    study = run_design(design, progress=progress)
-    if progress is not None:
-        progress.close()
-    plans = _figure_plans(study, args.figures) if args.figures is not None else []
-    files: dict[Path, str] = {}
-    if args.latex is not None:
-        files[args.latex] = study_note(study, "latex", plans, args.latex, args.standalone)
-    if args.markdown is not None:
-        files[args.markdown] = study_note(study, "markdown", plans, args.markdown, False)
-    _write_all(plans, files)
+    try:
+        study = run_design(design, progress=progress)
+        if progress is not None:
+            progress.phase("writing the notes")
+        plans = _figure_plans(study, args.figures) if args.figures is not None else []
+        files: dict[Path, str] = {}
+        if args.latex is not None:
+            files[args.latex] = study_note(study, "latex", plans, args.latex, args.standalone)
+        if args.markdown is not None:
+            files[args.markdown] = study_note(study, "markdown", plans, args.markdown, False)
+        _write_all(plans, files, inputs=[Path(args.file)])
+    finally:
+        if progress is not None:
+            progress.close()
     for warning in study.operating.warnings if study.operating is not None else ():
         print(f"opsym: warning: {_source(study)}: {warning}", file=sys.stderr)
     if not args.quiet:
@@ -213,11 +222,20 @@ def _figure_plans(study: Any, directory: Path) -> list[FigurePlan]:
     return plans
 
 
-def _write_all(plans: list[FigurePlan], files: dict[Path, str]) -> None:
-    """Draw every figure in a scratch directory, then write figures and notes together."""
-    import shutil
+def _write_all(
+    plans: list[FigurePlan], files: dict[Path, str], inputs: Sequence[Path] = ()
+) -> None:
+    """Draw every figure in a scratch directory, then write figures and notes together.
+
+    No output may be an input (the design file) or another output, however the
+    path is spelled (relative, ``..``, symbolic links). Each file is written to
+    a temporary file in its own folder and renamed into place, so a write that
+    fails leaves the old file (or none), never a partial one.
+    """
     import tempfile
 
+    targets = [*(p.path for p in plans), *files]
+    _refuse_clashes(targets, inputs)
     with tempfile.TemporaryDirectory() as tmp:
         drawn = []
         for i, plan in enumerate(plans):
@@ -227,13 +245,53 @@ def _write_all(plans: list[FigurePlan], files: dict[Path, str]) -> None:
         try:
             for scratch, path in drawn:
                 path.parent.mkdir(parents=True, exist_ok=True)
-                shutil.copyfile(scratch, path)
+                _replace(path, scratch.read_bytes())
             for path, text in files.items():
                 path.parent.mkdir(parents=True, exist_ok=True)
-                path.write_text(text, encoding="utf-8")
+                _replace(path, text.encode("utf-8"))
         except OSError as err:
             raise _OutputError(f"cannot write {err.filename or 'the output'}: "
                                f"{err.strerror or err}") from None  # fmt: skip
+
+
+def _refuse_clashes(targets: Sequence[Path], inputs: Sequence[Path]) -> None:
+    """Raise if an output path is an input or another output (after resolving both)."""
+    taken = [(p, "the design file") for p in inputs]
+    for path in targets:
+        for other, what in taken:
+            if path.resolve() == other.resolve() or _same(path, other):
+                raise _OutputError(
+                    f"the output {str(path)!r} is {what} ({str(other)!r}); give each output "
+                    "its own path (nothing was written)"
+                )
+        taken.append((path, "another output"))
+
+
+def _same(a: Path, b: Path) -> bool:
+    try:
+        return os.path.samefile(a, b)
+    except OSError:
+        return False
+
+
+def _replace(path: Path, data: bytes) -> None:
+    """Write ``path`` through a temporary file in its folder, then rename it into place."""
+    import tempfile
+
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    mask = os.umask(0)
+    os.umask(mask)
+    try:
+        os.chmod(tmp, 0o666 & ~mask)  # the mode a plain write would give, not mkstemp's 0600
+        with os.fdopen(fd, "wb") as f:
+            f.write(data)
+            f.flush()
+            os.fsync(f.fileno())
+        os.replace(tmp, path)
+    except BaseException:
+        with contextlib.suppress(OSError):
+            os.unlink(tmp)
+        raise
 
 
 def _source(study: Any) -> str:
@@ -242,30 +300,64 @@ def _source(study: Any) -> str:
 
 
 class _Progress:
-    """Progress on standard error: silent for quick solves, one updating line otherwise."""
+    """Progress on standard error: silent for quick runs, then the phase and time taken.
 
-    def __init__(self, stream: TextIO, delay: float = 1.0) -> None:
+    Long runs show which phase is running (``deriving the closed form``, ``error
+    budget``, ``noise``…), the solver's block count when it reports one, and the
+    seconds elapsed: one updating line on a terminal, a line every
+    ``interval`` seconds otherwise. A background heartbeat keeps the line alive
+    while one long step (a single large block) gives no news of its own.
+    """
+
+    def __init__(self, stream: TextIO, delay: float = 1.0, interval: float = 5.0) -> None:
         self.stream = stream
         self.start = time.monotonic()
         self.delay = delay
+        self.interval = interval
         self.shown = False
         self.last = 0.0
         self.tty = bool(getattr(stream, "isatty", lambda: False)())
+        self.name = "deriving the closed form"
+        self.detail = ""
+        self._lock = threading.Lock()
+        self._stop = threading.Event()
+        self._beat = threading.Thread(target=self._heartbeat, name="opsym-progress", daemon=True)
+        self._beat.start()
 
     def __call__(self, done: int, total: int, what: str) -> None:
-        now = time.monotonic()
-        if now - self.start < self.delay or (now - self.last < 0.5 and done < total):
-            return
-        self.last = now
-        line = f"opsym: solving {done}/{total} {what}"[:78]
-        if self.tty:
-            self.stream.write("\r" + line.ljust(78))
-        else:
-            self.stream.write(line + "\n")
-        self.stream.flush()
-        self.shown = True
+        with self._lock:
+            self.detail = f"solving {done}/{total} {what}"
+        self._show(force=False)
+
+    def phase(self, name: str) -> None:
+        """Start a new phase of the report (shown at once if the run is already slow)."""
+        with self._lock:
+            self.name, self.detail = name, ""
+        self._show(force=True)
 
     def close(self) -> None:
+        self._stop.set()
+        self._beat.join()
         if self.shown and self.tty:
             self.stream.write("\n")
             self.stream.flush()
+
+    def _heartbeat(self) -> None:
+        while not self._stop.wait(0.25):
+            self._show(force=False)
+
+    def _show(self, force: bool) -> None:
+        with self._lock:
+            now = time.monotonic()
+            gap = 0.5 if self.tty else self.interval
+            if now - self.start < self.delay or (now - self.last < gap and not force):
+                return
+            self.last = now
+            detail = f": {self.detail}" if self.detail else ""
+            line = f"opsym: {self.name}{detail} ({now - self.start:.0f} s)"[:78]
+            if self.tty:
+                self.stream.write("\r" + line.ljust(78))
+            else:
+                self.stream.write(line + "\n")
+            self.stream.flush()
+            self.shown = True

@@ -20,6 +20,7 @@ element name 'R1' is already used by resistor R1 (a-0); choose another name
 from __future__ import annotations
 
 __all__ = [
+    "ArgumentTypeError",
     "BudgetError",
     "CircuitError",
     "DesignFileError",
@@ -39,6 +40,10 @@ __all__ = [
 
 class OpsymError(Exception):
     """Root of every error opsym raises on purpose."""
+
+
+class ArgumentTypeError(OpsymError, TypeError):
+    """A Python argument of the wrong type (a list where a mapping is expected, and so on)."""
 
 
 class CircuitError(OpsymError, ValueError):

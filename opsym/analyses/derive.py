@@ -26,19 +26,26 @@ from ..equations.mna import DOMAINS, build_equations
 from ..errors import InvalidValueError, UnknownNameError
 from ..model.circuit import GROUND, Circuit
 from ..model.elements import CurrentSource, OpAmp, VoltageSource
+from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, OPAMP_PARAMETERS, source_symbol
 from ..model.topology import check_topology
-from ..values import to_exact
 from .result import Result, SourceInfo
 
-__all__ = ["coefficients_of", "derive", "output_weights", "resolve_values", "sources_of"]
+__all__ = [
+    "admissible",
+    "coefficients_of",
+    "derive",
+    "output_weights",
+    "resolve_values",
+    "sources_of",
+]
 
 
 def resolve_values(circuit: Circuit, values: Mapping[Any, Any] | None) -> dict[sp.Symbol, sp.Expr]:
     """Map user keys (names or symbols) to circuit symbols and values to exact numbers."""
     out: dict[sp.Symbol, sp.Expr] = {}
     known = _known_symbols(circuit)
-    for key, value in (values or {}).items():
+    for key, value in expect_mapping(values, "values").items():
         if isinstance(key, sp.Symbol):
             sym = known.get(key.name)
             if sym is None:
@@ -55,10 +62,9 @@ def resolve_values(circuit: Circuit, values: Mapping[Any, Any] | None) -> dict[s
                 "values: 's' is the Laplace variable, not a value to fix; evaluate a result "
                 "at frequencies with Result.response(f) instead"
             )
-        v = to_exact(value, f"values[{sym.name}]")
-        if v.is_number and sym.is_positive and not v.is_positive:
-            raise InvalidValueError(f"values[{sym.name}] = {v}: must be positive")
-        out[sym] = v
+        where = f"values[{sym.name}]"
+        exact = exact_value(value, where)
+        out[sym] = admissible(circuit, sym, exact, "values")
     return out
 
 
@@ -84,7 +90,7 @@ def output_weights(circuit: Circuit, output, index: dict[str, int]) -> tuple[dic
         pair = (circuit.node(output[0]), circuit.node(output[1]))
     else:
         raise UnknownNameError(
-            f"output {output!r}: give a node name or a (plus, minus) pair of node names"
+            f"output {shown(output)}: give a node name or a (plus, minus) pair of node names"
         )
     if pair[0] == pair[1]:
         raise InvalidValueError(f"output {output!r}: both sides are node {pair[0]!r}")
@@ -124,8 +130,8 @@ def derive(
     domain: str = "dc",
 ) -> Result:
     """Check ``circuit``, build its equations and solve for every source's coefficient."""
-    if domain not in DOMAINS:
-        raise InvalidValueError(f"domain {domain!r} is not known; use 'dc' or 's'")
+    if not isinstance(domain, str) or domain not in DOMAINS:
+        raise InvalidValueError(f"domain {shown(domain)} is not known; use 'dc' or 's'")
     check_topology(circuit, domain)
     fixed = resolve_values(circuit, values)
     eqs = build_equations(circuit, fixed, domain=domain)

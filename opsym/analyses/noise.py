@@ -49,6 +49,7 @@ from ..equations.mna import build_equations
 from ..errors import BudgetError, InvalidValueError, UnknownNameError
 from ..model.circuit import Circuit
 from ..model.elements import CurrentSource, Resistor
+from ..model.limits import check_band, check_frequencies, expect_text, shown
 from ..model.nonideal import NoiseSpectrum
 from ..model.symbols import LAPLACE, thermal_symbol
 from ..model.topology import check_topology
@@ -86,11 +87,15 @@ def kelvin(temperature: Any) -> sp.Expr:
     """``temperature`` in °C (number or text) as exact kelvin; 25 → 298.15."""
     t = to_exact(temperature, "temperature (°C)")
     if not t.is_number:
-        raise InvalidValueError(f"temperature {temperature!r}: give a number of °C, e.g. 25")
+        raise InvalidValueError(f"temperature {shown(temperature)}: give a number of °C, e.g. 25")
     kelvins = t + _ZERO_CELSIUS
+    if kelvins > 10**4:
+        raise InvalidValueError(
+            f"temperature {shown(temperature)} °C is above 10000 °C; give °C, e.g. 25"
+        )
     if not kelvins.is_positive:
         raise InvalidValueError(
-            f"temperature {temperature!r} °C is at or below absolute zero; give °C, e.g. 25"
+            f"temperature {shown(temperature)} °C is at or below absolute zero; give °C, e.g. 25"
         )
     return kelvins
 
@@ -219,6 +224,7 @@ class NoiseResult:
 
     def source(self, name: str) -> NoiseSource:
         """The :class:`NoiseSource` called ``name`` (``"R1"``, ``"U1.en"``…)."""
+        expect_text(name, "noise source name", "'R1' or 'U1.en'")
         try:
             return self._by_name[name]
         except KeyError:
@@ -273,6 +279,7 @@ class NoiseResult:
 
     def contribution(self, name: str, f: Any) -> np.ndarray:
         """Output noise density (V/√Hz) due to source ``name`` alone, at ``f``."""
+        check_frequencies(f, f"contribution of {name}: f")
         h, density, corner = self._numeric(name)
         freq = np.asarray(f, dtype=float)
         shape = np.sqrt(1 + corner / freq) if corner else np.ones_like(freq)
@@ -284,11 +291,13 @@ class NoiseResult:
 
     def density(self, f: Any) -> np.ndarray:
         """Total output noise density, V/√Hz: the root-sum-square of the contributions."""
+        check_frequencies(f, "density f")
         parts = self.contributions(f)
         return np.sqrt(sum(p**2 for p in parts.values()))
 
     def gain(self, f: Any, signal: str | None = None) -> np.ndarray:
         """``|H|`` of the signal path at ``f``."""
+        check_frequencies(f, "gain f")
         sym = self._signal(signal)
         h = self._evaluator(f"signal {sym}", self._signals[sym])
         return np.abs(h(np.asarray(f, dtype=float)))
@@ -330,6 +339,7 @@ class NoiseResult:
         >>> round(value / kt_c, 9), error < 1e-9 * value
         (1.0, True)
         """
+        f_low, f_high = check_band(f_low, f_high, "rms")
         self._check_band(f_low, name)
         names = self.names if name is None else (name,)
         if name is not None:
@@ -351,6 +361,7 @@ class NoiseResult:
         Raises :class:`opsym.BudgetError` when the signal gain falls to zero
         in the band (a notch): the input-referred noise is unbounded there.
         """
+        f_low, f_high = check_band(f_low, f_high, "input_rms")
         self._check_band(f_low, None)
         sym = self._signal(signal)
         breaks = {*self._breakpoints(self.names)}

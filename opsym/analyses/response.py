@@ -16,6 +16,7 @@ import numpy as np
 import sympy as sp
 
 from ..errors import InvalidValueError, NoSolutionError
+from ..model.limits import check_float, check_frequencies
 from ..numeric.frequency import HALF_POWER_DB, bandwidth, evaluation_form, evaluator
 from ..numeric.passband import Passband, passband
 
@@ -71,6 +72,7 @@ class FrequencyResponse:
         [0.99999, 0.7071]
         """
         self._need_s("response")
+        check_frequencies(f, "response f")
         sym = self._signal(source) if source is None else self._source_symbol(source)
         result = self.ideal() if ideal else self
 
@@ -97,6 +99,9 @@ class FrequencyResponse:
         >>> round(res.bandwidth() / 1e3, 2)  # GBW/NG·(1 + A0·β)/(A0·β) = 100.00 kHz
         100.0
         """
+        drop_db = check_float(drop_db, "bandwidth drop_db")
+        if not drop_db > 0:
+            raise InvalidValueError(f"bandwidth: drop_db = {drop_db:g}; give a drop > 0, e.g. 3")
         self._need_s("bandwidth")
 
         return bandwidth(self._exact_form(self._pick(source)), drop_db)
@@ -182,6 +187,7 @@ class FrequencyResponse:
         NoSolutionError
             The ideal gain from ``signal`` is zero at every frequency.
         """
+        check_frequencies(f, "gain_error_response f")
         self._need_s("gain_error_response")
         sym = self._signal(signal)
         if self.ideal().coefficient(sym) == 0:

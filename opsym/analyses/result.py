@@ -37,8 +37,8 @@ from .._services import call
 from ..errors import InvalidValueError, NoSolutionError, SingularCircuitError, UnknownNameError
 from ..model.circuit import Circuit
 from ..model.elements import OpAmp
+from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
-from ..values import to_exact
 from .present import at_infinity, tidy, transfer_form
 from .response import FrequencyResponse
 
@@ -243,7 +243,8 @@ class Result(FrequencyResponse):
         >>> _stage().subs({"R1": "1k", "R2": "9k"}).coefficient("U1.Ib+")
         -10*Rs
         """
-        replacements = {self._any_symbol(k): self._value(k, v) for k, v in mapping.items()}
+        items = expect_mapping(mapping, "subs", "{'R1': '10k'}").items()
+        replacements = {self._any_symbol(k): self._value(k, v) for k, v in items}
         coefficients = {s: c.xreplace(replacements) for s, c in self._coefficients.items()}
         return self._replace(
             coefficients=coefficients, post={**self._post, **replacements}, substituted=True
@@ -521,17 +522,23 @@ class Result(FrequencyResponse):
             return source
         if isinstance(source, str):
             return self._circuit.symbol(source)
-        raise UnknownNameError(f"{source!r} is not a source name or symbol")
+        raise UnknownNameError(f"{shown(source)} is not a source name or symbol")
 
     def _any_symbol(self, key: Any) -> sp.Symbol:
         if isinstance(key, sp.Symbol):
-            return key
+            try:  # a look-alike symbol (other assumptions) means the circuit's own
+                return self._circuit.symbol(key.name)
+            except UnknownNameError:
+                return key
         if isinstance(key, str):
             return self._circuit.symbol(key)
-        raise UnknownNameError(f"subs: key {key!r} is not a name or symbol")
+        raise UnknownNameError(f"key {shown(key)} is not a name such as 'R1' or a symbol")
 
     def _value(self, key: Any, value: Any) -> sp.Expr:
-        return to_exact(value, f"subs[{key}]")
+        sym = self._any_symbol(key)
+        where = f"subs[{shown(key)}]"
+        exact = exact_value(value, where)
+        return admissible(self._circuit, sym, exact, "subs")
 
     def _free_symbol(self, name: str | sp.Symbol, what: str) -> sp.Symbol:
         x = self._any_symbol(name)

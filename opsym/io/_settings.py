@@ -50,7 +50,13 @@ class SettingsReader:
         if gain and text == "gain":
             return text
         valid = [n for n in self.names if "." not in n and self._is_signal(n)]
-        circuit_terms = valid + [n for n in self.names if "." in n and self._is_source(n)]
+        errors = [n for n in self.names if "." in n and self._is_source(n)]
+        if not gain and text in valid:
+            raise t.error(
+                key, f"{text!r} is a signal source, whose coefficient is the gain, not an error "
+                f"term; name an error term ({', '.join(errors[:6]) or 'none in this design'})"
+            )
+        circuit_terms = valid + errors
         if text not in circuit_terms:
             some = ", ".join((["gain"] if gain else []) + circuit_terms[:12])
             raise t.error(key, f"{text!r} is not a term of this design; use one of {some}")
@@ -79,10 +85,8 @@ class SettingsReader:
         words = text.split()
         if len(words) != 3 or words[1] != "by":
             raise t.error("nulls", f"{text!r} is not 'TERM by COMPONENT', e.g. 'U1.Ib by R3'")
-        return NullRequest(
-            self.term_name(t, "nulls", words[0], gain=False),
-            self.component_name(t, "nulls", words[2]),
-        )
+        by = self.component_name(t, "nulls", words[2])
+        return NullRequest(self.term_name(t, "nulls", words[0], gain=False), by)
 
     def sensitivity(self, t: Table, circuit: Circuit) -> SensitivityRequest | None:
         if not t.has("sensitivity-to"):

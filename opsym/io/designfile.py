@@ -43,9 +43,18 @@ from typing import Any
 
 import sympy as sp
 
-from ..errors import DesignFileError, InvalidValueError, OpsymError
+from ..errors import ArgumentTypeError, DesignFileError, InvalidValueError, OpsymError
 from ..model.circuit import Circuit
-from ..model.elements import TWO_TERMINALS, CurrentSource, VoltageSource
+from ..model.elements import (
+    TWO_TERMINALS,
+    Capacitor,
+    CurrentSource,
+    Inductor,
+    Resistor,
+    TwoTerminal,
+    VoltageSource,
+)
+from ..model.limits import expect_text
 from ..model.nonideal import KINDS, SinglePole
 from ..model.symbols import (
     OPAMP_PARAMETERS,
@@ -97,12 +106,18 @@ def load_design(path: str | os.PathLike[str]) -> Design:
         model (a floating node, say) come as a DesignFileError too, with the
         model's exception as ``__cause__``.
     """
+    if not isinstance(path, (str, os.PathLike)):
+        raise ArgumentTypeError(
+            f"load_design: expected a file path such as 'amp.toml', not a {type(path).__name__}"
+        )
     return load(path)  # by suffix: this module reads .toml
 
 
 @reader(".toml")
 def parse_design(text: str, *, filename: str = "<text>") -> Design:
     """Read a design from TOML text; ``filename`` is used in messages."""
+    expect_text(text, "parse_design text", "the TOML text of a design file")
+    filename = str(filename)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as err:
@@ -409,6 +424,29 @@ class _Reader(SettingsReader):
                     seen.add(n)
                     path.append(n)
                     todo.extend(uses[n])
+        self.check_equals_values(equations)
+
+    def check_equals_values(self, equations: Mapping[str, tuple[Table, str]]) -> None:
+        """Refuse an ``equals`` that gives a component a value <= 0 at the given values."""
+        known = {self.names[n]: v for n, v in self.values.items() if n in self.names}
+        elements = {n: self.circuit.element(n) for n in equations}
+        defined = {self.names[n]: e.value for n, e in elements.items()
+                   if n in self.names and isinstance(e, TwoTerminal)}  # fmt: skip
+        for name, (t, key) in equations.items():
+            element = elements[name]
+            if not isinstance(element, (Resistor, Capacitor, Inductor)):
+                continue
+            value = element.value
+            for _ in range(len(defined) + 1):  # loops were refused above
+                value = value.xreplace(defined)
+            value = value.xreplace(known)
+            if value.is_number and value.is_positive is False:
+                shown = f"{float(value):.6g}" if value.is_real else str(value)
+                raise t.error(
+                    key, f"{element.kind} {name} = {element.value} is {shown} at the given "
+                    f"values; a "
+                    f"{element.kind} must be > 0: change the expression or the values it uses"
+                )
 
     def names_in(self, name: str) -> set[sp.Symbol]:
         value = getattr(self.circuit.element(name), "value", sp.S.Zero)
@@ -430,9 +468,9 @@ class _Reader(SettingsReader):
         else:
             out = top.node_of(raw, "output")
             checked = [out]
-        for node in checked:
+        for i, node in enumerate(checked):
             try:
-                circuit.node(node)
+                checked[i] = circuit.node(node)  # canonical: "gnd" and "GND" are "0"
             except OpsymError as err:
                 raise top.wrap("output", err) from err
         if checked == ["0"] or checked == ["gnd"] or (len(checked) == 2 and

@@ -27,8 +27,14 @@ from typing import TYPE_CHECKING, Any
 import sympy as sp
 
 from .._services import call
-from ..errors import DuplicateNameError, InvalidValueError, UnknownNameError, ValueSyntaxError
-from ..values import to_exact
+from ..errors import (
+    ArgumentTypeError,
+    CircuitError,
+    DuplicateNameError,
+    InvalidValueError,
+    UnknownNameError,
+    ValueSyntaxError,
+)
 from .elements import (
     Capacitor,
     CurrentSource,
@@ -38,6 +44,8 @@ from .elements import (
     Resistor,
     VoltageSource,
 )
+from .limits import MAX_ELEMENTS, exact_value, expect_text, shown
+from .naming import check_names
 from .nonideal import KINDS, NonIdeal, SinglePole
 from .symbols import LAPLACE, OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
 
@@ -56,7 +64,7 @@ _NODE = re.compile(r"^[A-Za-z0-9_][A-Za-z0-9_+\-]*$")
 def _positive_value(value: Any, name: str, kind: str, unit: str) -> sp.Expr:
     if value is None:
         return component_symbol(name)
-    v = to_exact(value, f"{kind} {name}", unit=unit)
+    v = exact_value(value, f"{kind} {name}", unit)
     if v.is_number:
         if v.is_zero:
             hint = " (for a wire, give both ends the same node name)" if kind == "resistor" else ""
@@ -88,6 +96,8 @@ class Circuit:
     def __init__(self, title: str = "") -> None:
         self.title = str(title)
         self._elements: dict[str, Element] = {}
+        self._latex: dict[str, str] = {}  # element names by their LaTeX
+        self._used: dict[str, sp.Symbol] = {}  # symbols the values use, by name
 
     # -- declaring ---------------------------------------------------------------
 
@@ -114,13 +124,13 @@ class Circuit:
         """Add a signal voltage source, ``V(plus) - V(minus) = value``."""
         name = self._new_name(name)
         na, nb = self._nodes(name, plus, minus)
-        self._add(VoltageSource(name, na, nb, self._source_value(name, value)))
+        self._add(VoltageSource(name, na, nb, self._source_value(name, value, "voltage source")))
 
     def current_source(self, name: str, a: str, b: str, value: Any = None) -> None:
         """Add a signal current source; its current flows through it from ``a`` into ``b``."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(CurrentSource(name, na, nb, self._source_value(name, value)))
+        self._add(CurrentSource(name, na, nb, self._source_value(name, value, "current source")))
 
     def opamp(
         self,
@@ -187,6 +197,19 @@ class Circuit:
         wanted = [("offset", offset), ("bias", bias), ("cmrr", cmrr), ("psrr", psrr)]
         wanted += [("vnoise", noise), ("inoise", noise)]
         kinds: list[NonIdeal] = [KINDS[k]() for k, on in wanted if on]
+        if isinstance(extra, NonIdeal):
+            extra = (extra,)
+        if extra is None or isinstance(extra, str) or not isinstance(extra, Iterable):
+            raise ArgumentTypeError(
+                f"op-amp {name}: extra= expects a list of NonIdeal instances, "
+                f"not {type(extra).__name__}"
+            )
+        for flag, on in [("offset", offset), ("bias", bias), ("cmrr", cmrr), ("psrr", psrr),
+                         ("noise", noise)]:
+            if not isinstance(on, bool):
+                raise ArgumentTypeError(
+                    f"op-amp {name}: {flag}= expects True or False, not {shown(on)}"
+                )
         for item in extra:
             if not isinstance(item, NonIdeal):
                 raise InvalidValueError(
@@ -219,6 +242,7 @@ class Circuit:
 
     def element(self, name: str) -> Element:
         """Return the element called ``name``."""
+        expect_text(name, "element name", "'R1'")
         try:
             return self._elements[name]
         except KeyError:
@@ -229,6 +253,8 @@ class Circuit:
 
     def node(self, name: str) -> str:
         """Return the canonical spelling of node ``name``; raise if the circuit lacks it."""
+        if isinstance(name, int) and not isinstance(name, bool) and 0 <= name < 10**9:
+            name = str(name)
         canon = _canonical_node(name)
         if canon not in self.nodes:
             raise UnknownNameError(
@@ -255,7 +281,9 @@ class Circuit:
         U1.Ib-
         """
         if not isinstance(name, str):
-            raise UnknownNameError(f"symbol names are text such as 'R1' or 'U1.Vos', not {name!r}")
+            raise UnknownNameError(
+                f"symbol names are text such as 'R1' or 'U1.Vos', not {shown(name)}"
+            )
         if name == "s" and "s" not in self._elements:
             return LAPLACE
         owner, dot, what = name.partition(".")
@@ -406,7 +434,8 @@ class Circuit:
     # -- helpers -----------------------------------------------------------------
 
     def _new_name(self, name: Any) -> str:
-        if not isinstance(name, str) or not _NAME.match(name):
+        expect_text(name, "element name", "'R1'")
+        if not _NAME.match(name):
             raise InvalidValueError(
                 f"element name {name!r} is not valid; use letters, digits and '_', "
                 "starting with a letter (e.g. 'R1', 'U2', 'Vin')"
@@ -421,9 +450,10 @@ class Circuit:
     def _nodes(self, name: str, *nodes: Any) -> tuple[str, ...]:
         out = []
         for n in nodes:
-            if isinstance(n, int) and not isinstance(n, bool):
+            if isinstance(n, int) and not isinstance(n, bool) and 0 <= n < 10**9:
                 n = str(n)
-            if not isinstance(n, str) or not _NODE.match(n):
+            expect_text(n, f"element {name}: node name", "'out' or '0'")
+            if not _NODE.match(n):
                 raise InvalidValueError(
                     f"element {name}: node name {n!r} is not valid; use letters, digits, '_', "
                     "'+' or '-' (ground is '0' or 'gnd')"
@@ -435,16 +465,24 @@ class Circuit:
             )
         return tuple(out)
 
-    def _source_value(self, name: str, value: Any) -> sp.Expr:
+    def _source_value(self, name: str, value: Any, kind: str) -> sp.Expr:
+        unit = VoltageSource.unit if kind == "voltage source" else CurrentSource.unit
         if value is None:
             return source_symbol(name)
-        return to_exact(value, f"source {name}")
+        return exact_value(value, f"{kind} {name}", unit)
 
     def _add(self, element: Element) -> None:
+        if len(self._elements) >= MAX_ELEMENTS:
+            raise CircuitError(
+                f"{element.kind} {element.name}: circuit {self.title!r} already has "
+                f"{MAX_ELEMENTS} elements, the most opsym accepts; split the design into stages"
+            )
+        check_names(self._elements, self._latex, self._used, element)
         self._elements[element.name] = element
 
 
 def _canonical_node(name: str) -> str:
+    expect_text(name, "node name", "'out' or '0'")
     return GROUND if name.lower() == "gnd" else name
 
 

@@ -24,7 +24,9 @@ from dataclasses import dataclass
 from typing import Any
 
 from ..errors import BudgetError
-from .units import format_si, parse_quantity
+from ..model.limits import shown
+from ._inputs import read_number
+from .units import format_si
 
 __all__ = ["ADC", "LSB_RULE"]
 
@@ -59,23 +61,25 @@ class ADC:
             or not isinstance(self.bits, int)
             or not (1 <= self.bits <= 32)
         ):
-            raise BudgetError(f"ADC bits={self.bits!r} must be a whole number from 1 to 32")
+            raise BudgetError(
+                f"ADC bits={shown(self.bits)} must be a whole number from 1 to 32"
+            )
         for name in ("low", "high"):
             v = getattr(self, name)
             if not (isinstance(v, (int, float)) and math.isfinite(v)):
-                raise BudgetError(f"ADC {name}={v!r} must be a finite number of volts")
+                raise BudgetError(f"ADC {name}={shown(v)} must be a finite number of volts")
         if not self.high > self.low:
             raise BudgetError(f"ADC range {self.low} … {self.high} V is empty; give high > low")
 
     @classmethod
     def unipolar(cls, bits: int, vref: Any) -> ADC:
         """A converter spanning ``0 … vref``."""
-        return cls(bits, 0.0, parse_quantity(vref, "V", where="ADC vref"))
+        return cls(bits, 0.0, read_number(vref, "ADC vref", "V"))
 
     @classmethod
     def bipolar(cls, bits: int, vref: Any) -> ADC:
         """A converter spanning ``−vref … +vref`` (FSR = 2·vref)."""
-        v = parse_quantity(vref, "V", where="ADC vref")
+        v = read_number(vref, "ADC vref", "V")
         return cls(bits, -v, v)
 
     @property

@@ -33,6 +33,8 @@ from typing import Any
 import sympy as sp
 
 from ..errors import BudgetError, NoSolutionError, UnknownNameError
+from ..model.limits import shown
+from ._inputs import check_values, read_number
 from .units import format_si, parse_quantity
 
 __all__ = ["SERIES", "NullChoice", "choose_for_null", "preferred_value", "series_values"]
@@ -113,7 +115,9 @@ _INTEGERS = {
 def _series_key(series: Any) -> str:
     key = str(series).strip().upper() if isinstance(series, str) else None
     if key not in SERIES:
-        raise UnknownNameError(f"unknown E-series {series!r}; choose one of {', '.join(SERIES)}")
+        raise UnknownNameError(
+            f"unknown E-series {shown(series)}; choose one of {', '.join(SERIES)}"
+        )
     return key
 
 
@@ -169,7 +173,7 @@ def preferred_value(x: Any, series: str = "E96") -> float:
     9090.0
     """
     key = _series_key(series)
-    value = parse_quantity(x, where="preferred_value x")
+    value = read_number(x, "preferred_value x")
     if not value > 0:
         raise BudgetError(f"preferred_value: x = {value} is not positive; give a value > 0")
     table, places = _INTEGERS[key]
@@ -278,6 +282,7 @@ def choose_for_null(
             f"choose_for_null: {condition!r} is not a condition Eq(R, expr); "
             "pass what Result.null(...) returns"
         )
+    values = check_values(values, "choose_for_null values", getattr(result, "circuit", None))
     element = condition.lhs.name
     subs = _numeric_subs(values, condition.rhs.free_symbols, "choose_for_null")
     exact_expr = condition.rhs.xreplace(subs)  # xreplace: linear in the tree, unlike subs

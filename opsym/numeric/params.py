@@ -40,6 +40,7 @@ from types import MappingProxyType
 from typing import Any
 
 from ..errors import BudgetError, UnknownNameError
+from ..model.limits import shown
 from ..model.nonideal import KINDS
 from ..model.symbols import SYMBOLS
 from .units import db_to_ratio, parse_db, parse_fraction, parse_quantity
@@ -603,7 +604,7 @@ def _lookup(name: Any, table: dict[str, Any], what: str) -> Any:
             if _normal(key) == want:
                 return value
     raise UnknownNameError(
-        f"no {what} named {name!r}; the shipped sets are "
+        f"no {what} named {shown(name)}; the shipped sets are "
         f"{', '.join(repr(k) for k in table)} (or build your own)"
     )
 

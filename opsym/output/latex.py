@@ -26,6 +26,8 @@ import sympy as sp
 
 from .._services import provides
 from ..analyses.present import trade_form
+from ..errors import ArgumentTypeError
+from ..model.limits import expect_mapping
 from ..model.symbols import LAPLACE
 from .laplace import number_latex, transfer_parts, transfer_terms
 
@@ -116,7 +118,12 @@ def transfer_latex(
     H(s) = \frac{V_{\mathrm{out}}}{V_{\mathrm{in}}} = -9.99945 \cdot
       \frac{1}{1 + \frac{s}{2\pi \cdot 272.74\,\mathrm{kHz}}}, \qquad H(0) = -9.99945
     """
-    table = {**result.symbol_latex(), **(names or {})}
+    if not hasattr(result, "symbol_latex"):
+        raise ArgumentTypeError(
+            "transfer_latex: expected a Result of Circuit.analyze(domain='s'), "
+            f"not a {type(result).__name__}"
+        )
+    table = {**result.symbol_latex(), **expect_mapping(names, "transfer_latex names")}
     sym = result._signal(source) if source is None else result._source_symbol(source)
     coeff = result.coefficient(sym)
     ratio = r"\frac{" + result.output_latex() + "}{" + table.get(sym, sp.latex(sym)) + "}"

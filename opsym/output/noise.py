@@ -22,6 +22,8 @@ from typing import TYPE_CHECKING
 import sympy as sp
 
 from ..analyses.noise import PEAK_TO_PEAK_RULE
+from ..errors import ArgumentTypeError
+from ..model.limits import expect_mapping
 from ..model.symbols import component_symbol, latex_name
 from ..numeric.units import format_si
 from .laplace import number_latex, transfer_terms
@@ -142,6 +144,12 @@ def noise_latex(noise_result: NoiseResult, names: Mapping[sp.Symbol, str] | None
       & S(f) &= i_{\mathrm{n},\mathrm{U1}}^{2}
     \end{aligned}
     """
+    if not (hasattr(noise_result, "names") and hasattr(noise_result, "transfer")):
+        raise ArgumentTypeError(
+            f"noise_latex: expected a NoiseResult of Circuit.noise, not a "
+            f"{type(noise_result).__name__}"
+        )
+    names = expect_mapping(names, "noise_latex names")
     out = _output_latex(noise_result.output)
     lines = [
         r"e_{\mathrm{out}}^{2}(f) &= \sum_{k} \left|H_{k}(j 2\pi f)\right|^{2} S_{k}(f), "

@@ -36,7 +36,8 @@ from typing import Any
 import sympy as sp
 
 from ..analyses.present import trade_form
-from ..errors import BudgetError
+from ..errors import ArgumentTypeError, BudgetError
+from ..model.limits import shown as _shown
 from ..model.nonideal import KINDS
 from ..model.symbols import latex_name
 from .circuit_text import element_lines
@@ -188,7 +189,7 @@ def design_note(
     -------
     str
     """
-    _check_arguments(fmt, frequency, noise)
+    _check_arguments(result, fmt, frequency, noise)
     circuit = getattr(result, "circuit", None)
     elements = (element_lines(circuit, values, parameters, resistors, grade)
                 if circuit is not None else [])  # fmt: skip
@@ -208,9 +209,15 @@ def design_note(
     return _standalone(latex(doc)) if standalone else latex(doc)
 
 
-def _check_arguments(fmt: str, frequency: Any, noise: Any) -> None:
-    if fmt not in ("latex", "markdown"):
-        raise BudgetError(f"design_note: fmt {fmt!r} is not known; use 'latex' or 'markdown'")
+def _check_arguments(result: Any, fmt: Any, frequency: Any, noise: Any) -> None:
+    if not (hasattr(result, "terms") and hasattr(result, "circuit")):
+        raise ArgumentTypeError(
+            f"design_note: expected a Result of Circuit.analyze, not a {type(result).__name__}"
+        )
+    if not isinstance(fmt, str) or fmt not in ("latex", "markdown"):
+        raise BudgetError(
+            f"design_note: fmt {_shown(fmt)} is not known; use 'latex' or 'markdown'"
+        )
     if frequency is not None and not isinstance(frequency, FrequencySection):
         raise BudgetError(
             "design_note: frequency= takes a FrequencySection; "

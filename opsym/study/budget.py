@@ -52,7 +52,9 @@ from dataclasses import dataclass
 from typing import Any
 
 from ..errors import BudgetError
+from ..model.limits import check_float, expect_mapping
 from ..model.symbols import SYMBOLS
+from ..numeric._inputs import check_values
 from ..numeric.adc import ADC
 from ..numeric.params import REFERENCE_TEMPERATURE, OpAmpParams, ResistorParams
 from ..numeric.units import format_si
@@ -378,6 +380,10 @@ def error_budget(
     -------
     Budget
     """
+    values = check_values(values, "error_budget values", getattr(result, "circuit", None))
+    opamps = expect_mapping(opamps, "error_budget opamps",
+                            "{'U1': opamp_parameters('generic CMOS')}")  # fmt: skip
+    temperature = check_float(temperature, "error_budget temperature")
     plan = _prepare(
         result, values, opamps, resistors=resistors, grade=grade, signal=signal,
         input_gain=input_gain, full_scale=full_scale, adc=adc, title=title, progress=progress,

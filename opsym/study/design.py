@@ -119,6 +119,7 @@ def run_design(design: Design, progress: Progress | None = None) -> Study:
         parameter set the budget needs, ...); messages say what to add.
     """
     result = design.analyze(progress=progress)
+    _phase(progress, "operating point and nulls")
     values = numeric_values(design)
     numbers = _term_numbers(result, values)
     operating, problem, rails = None, "", rails_of(design)
@@ -142,6 +143,7 @@ def run_design(design: Design, progress: Progress | None = None) -> Study:
                 )
             )
     sens: list[tuple[str, str, sp.Expr]] = []
+    _phase(progress, "sensitivities and error budget")
     if design.sensitivity is not None:
         req = design.sensitivity
         for of in req.of:
@@ -160,6 +162,7 @@ def run_design(design: Design, progress: Progress | None = None) -> Study:
                 "element, 'parameters' for each op-amp, 'Vcm'/'dVs' for cmrr/psrr)"
             ) from err
     studies = []
+    _phase(progress, "tolerance study")
     if design.tolerance is not None:
         t = design.tolerance
         tolerances = dict(design.resistors) or {}
@@ -176,12 +179,24 @@ def run_design(design: Design, progress: Progress | None = None) -> Study:
                     distribution=t.distribution,
                 )
             )
-    response = run_response(design, values, design.response) if design.response else None
-    noise = run_noise(design, values, design.noise) if design.noise else None
+    response = noise = None
+    if design.response:
+        _phase(progress, "frequency response (s domain)")
+        response = run_response(design, values, design.response, progress)
+    if design.noise:
+        _phase(progress, "noise")
+        noise = run_noise(design, values, design.noise, progress)
     return Study(
         design, result, numbers, conditions, tuple(choices), tuple(sens), budget, sweep,
         tuple(studies), response, noise, operating, problem,
     )  # fmt: skip
+
+
+def _phase(progress: Any, name: str) -> None:
+    """Tell a progress reporter that has phases (the command line's) which one starts."""
+    start = getattr(progress, "phase", None)
+    if start is not None:
+        start(name)
 
 
 def numeric_values(design: Design) -> dict[str, float]:

@@ -265,7 +265,8 @@ class NoiseReport:
 
 
 def run_response(
-    design: Design, values: Mapping[str, float], settings: ResponseSettings
+    design: Design, values: Mapping[str, float], settings: ResponseSettings,
+    progress: Any = None,
 ) -> ResponseReport:
     """Evaluate the ``[response]`` of ``design`` with the numbers ``values``.
 
@@ -280,7 +281,7 @@ def run_response(
     f_start = float(settings.f_start) if settings.f_start is not None else DEFAULT_START
     f_stop = float(settings.f_stop) if settings.f_stop is not None else DEFAULT_STOP
     points = settings.points_per_decade or DEFAULT_POINTS_PER_DECADE
-    symbolic = design.analyze(domain="s")
+    symbolic = design.analyze(domain="s", progress=progress)
     numeric = symbolic.subs(_element_values(design, values))
     try:
         grid = _points(numeric, signal, frequency_grid(f_start, f_stop, points))
@@ -305,7 +306,9 @@ def run_response(
     )  # fmt: skip
 
 
-def run_noise(design: Design, values: Mapping[str, float], settings: NoiseSettings) -> NoiseReport:
+def run_noise(
+    design: Design, values: Mapping[str, float], settings: NoiseSettings, progress: Any = None
+) -> NoiseReport:
     """Run the ``[noise]`` analysis of ``design`` over its band.
 
     Raises
@@ -321,7 +324,8 @@ def run_noise(design: Design, values: Mapping[str, float], settings: NoiseSettin
     f_stop = math.inf if settings.f_stop == sp.oo else float(settings.f_stop)
     temperature = settings.temperature if settings.temperature is not None else 25.0
     result = design.circuit.noise(
-        design.output, values=_element_values(design, values), temperature=temperature
+        design.output, values=_element_values(design, values), temperature=temperature,
+        progress=progress,
     )
     try:
         budget = result.budget(f_start, f_stop, settings.signal)

@@ -26,6 +26,7 @@ from typing import Any
 from .._services import provides
 from ..analyses.noise import PEAK_TO_PEAK_FACTOR, rms_and_error
 from ..errors import BudgetError, InvalidValueError, UnknownNameError
+from ..model.limits import check_band
 from ..output.noise import noise_table
 from ..output.tables import Table
 from ._views import TableViews
@@ -76,6 +77,7 @@ def noise_budget(
     result: Any, f_low: float, f_high: float, signal: str | None = None
 ) -> NoiseBudget:
     """Each source's RMS over ``f_low``–``f_high`` Hz and its share of the total power."""
+    f_low, f_high = check_band(f_low, f_high, "noise budget")
     found = {name: result.rms_with_error(f_low, f_high, name) for name in result.names}
     parts = {name: v for name, (v, _) in found.items()}
     total = math.sqrt(sum(v**2 for v in parts.values()))

@@ -36,6 +36,8 @@ from typing import Any
 import numpy as np
 
 from ..errors import BudgetError
+from ..model.limits import check_float
+from ..numeric._inputs import check_values
 from ..numeric.params import REFERENCE_TEMPERATURE, OpAmpParams
 from ..numeric.units import format_si
 from ..output.tables import Table
@@ -162,11 +164,17 @@ def budget_over_temperature(
             f"budget_over_temperature: unknown option(s) {', '.join(sorted(unknown))}"
         )
     if temperatures is not None:
-        grid = sorted({float(t) for t in temperatures})
+        if isinstance(temperatures, (str, bytes)) or not hasattr(temperatures, "__iter__"):
+            raise BudgetError("budget_over_temperature: temperatures must be a list of °C")
+        where = "budget_over_temperature temperatures"
+        grid = sorted({check_float(t, where) for t in temperatures})
         if not grid:
             raise BudgetError("budget_over_temperature: temperatures is empty")
     else:
-        grid = _grid(float(low), float(high), float(step))
+        grid = _grid(*(check_float(x, f"budget_over_temperature {w}")
+                       for x, w in ((low, "low"), (high, "high"), (step, "step"))))
+    values = check_values(values, "budget_over_temperature values",
+                          getattr(result, "circuit", None))
     kw = {"resistors": None, "grade": "max", "signal": None, "input_gain": None,
           "full_scale": None, "adc": None, "title": None, "progress": None,
           **options}  # fmt: skip

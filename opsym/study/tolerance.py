@@ -37,6 +37,7 @@ import numpy as np
 import sympy as sp
 
 from ..errors import BudgetError
+from ..numeric._inputs import check_values
 from ..numeric._numbers import Exact, compile_columns, exact_number, relative_sensitivities
 from ..numeric.params import ResistorParams
 from ..numeric.units import format_si, parse_fraction, parse_quantity
@@ -68,10 +69,15 @@ def _resolve(
         free |= {s for s in e.free_symbols if isinstance(s, sp.Symbol)}
     by_name = {s.name: s for s in free}
     numbers: dict[sp.Symbol, float] = {}
-    for key, raw in (values or {}).items():
+    for key, raw in check_values(values, f"{where} values").items():
         name = key.name if isinstance(key, sp.Symbol) else str(key)
         if name in by_name:
-            numbers[by_name[name]] = parse_quantity(raw, where=f"{where}: value of {name}")
+            x = parse_quantity(raw, where=f"{where}: value of {name}")
+            if by_name[name].is_positive and not x > 0:
+                raise BudgetError(
+                    f"{where}: value of {name} is {x:g}; a component value must be positive"
+                )
+            numbers[by_name[name]] = x
     if isinstance(tolerances, ResistorParams):
         # Every component symbol (positive, not an op-amp parameter) gets the same grade.
         tol = {s: tolerances.tolerance for s in free if s.is_positive and "." not in s.name}
