@@ -26,7 +26,6 @@ Eq(Rs, R1*R2/(R1 + R2))
 
 from __future__ import annotations
 
-import dataclasses
 from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
@@ -39,6 +38,7 @@ from ..model.circuit import Circuit
 from ..model.elements import OpAmp
 from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
+from ._ideal import ideal_circuit, ideal_gains, ideal_limit
 from .present import at_infinity, tidy, transfer_form
 from .response import FrequencyResponse
 
@@ -76,9 +76,11 @@ class Result(FrequencyResponse):
         "_coefficients",
         "_domain",
         "_fixed",
+        "_memo",
         "_output",
         "_post",
         "_readable",
+        "_root",
         "_sources",
         "_substituted",
         "_terms",
@@ -95,6 +97,7 @@ class Result(FrequencyResponse):
         averaged: bool = False,
         substituted: bool = False,
         domain: str = "dc",
+        root: Result | None = None,
     ) -> None:
         self._circuit = circuit
         self._domain = domain
@@ -107,6 +110,10 @@ class Result(FrequencyResponse):
         self._substituted = substituted
         self._terms: dict[sp.Symbol, sp.Expr] | None = None
         self._readable: dict[sp.Symbol, sp.Expr] = {}
+        # The result before any subs (its coefficients, these values): the ideal and
+        # DC forms are taken from it, once. Results it derived, by request (a cache).
+        self._root = root
+        self._memo: dict[Any, Any] = {}
 
     # -- what was derived ---------------------------------------------------------
 
@@ -247,11 +254,16 @@ class Result(FrequencyResponse):
         replacements = {self._any_symbol(k): self._value(k, v) for k, v in items}
         coefficients = {s: c.xreplace(replacements) for s, c in self._coefficients.items()}
         return self._replace(
-            coefficients=coefficients, post={**self._post, **replacements}, substituted=True
-        )
+            coefficients=coefficients, post={**self._post, **replacements}, substituted=True,
+            root=self._root or self,
+        )  # fmt: skip
 
     def ideal(self) -> Result:
         """The same result with every finite open-loop gain taken to infinity.
+
+        Worked out once per result: where the other symbols have numbers (after
+        :meth:`subs`), as the limit of these coefficients, else from the circuit
+        with ideal op-amps, derived once for the result ``subs`` started from.
 
         Examples
         --------
@@ -261,30 +273,51 @@ class Result(FrequencyResponse):
         >>> res.ideal().coefficient("Vs")
         (R1 + R2)/R1
         """
-        finite = [a for a in self._circuit.opamps if a.gain is not None]
-        if not finite:
+        if not any(a.gain is not None for a in self._circuit.opamps):
             return self
-        ideal_circuit = Circuit(self._circuit.title)
-        for e in self._circuit.elements:
-            ideal_circuit._add(dataclasses.replace(e, gain=None) if isinstance(e, OpAmp) else e)
-        try:
-            fresh = call(
-                "derive", ideal_circuit, self._output, values=self._fixed, domain=self._domain
-            )
-        except SingularCircuitError:
-            gains = list({g for a in finite if a.gain is not None for g in a.gain.free_symbols})
-            coefficients = {s: at_infinity(c, gains) for s, c in self._coefficients.items()}
-            return self._replace(coefficients=coefficients)
-        if self._post:
-            fresh = fresh.subs(self._post)
+        if "ideal" not in self._memo:  # derived once per result
+            self._memo["ideal"] = self._ideal_by_limit() or self._ideal_derived()
+        return self._memo["ideal"]
+
+    def _ideal_by_limit(self) -> Result | None:
+        """The ideal form as the limit of these coefficients, where their numbers are in."""
+        gains = ideal_gains(self._circuit, self._fixed)
+        if gains is None:
+            return None
+        base = self._root or self
+        keep = {k: v for k, v in self._post.items() if k not in gains}
+        limit = ideal_limit({s: c.xreplace(keep) for s, c in base._coefficients.items()}, gains)
+        if limit is None:
+            return None
+        fresh = base._replace(
+            coefficients=limit, post=self._post, substituted=self._substituted, root=None
+        )
+        fresh = fresh.with_average_bias() if self._averaged else fresh
+        fresh._memo["ideal"] = fresh
+        return fresh
+
+    def _ideal_derived(self) -> Result:
+        """The ideal form from the circuit with ideal op-amps, derived once per root."""
+        if self._root is not None:
+            fresh = self._root.ideal().subs(self._post)
+        else:
+            try:
+                fresh = call("derive", ideal_circuit(self._circuit), self._output,
+                             values=self._fixed, domain=self._domain)  # fmt: skip
+            except SingularCircuitError:
+                finite = [a.gain for a in self._circuit.opamps if a.gain is not None]
+                gains = list({g for gain in finite for g in gain.free_symbols})
+                coefficients = {s: at_infinity(c, gains) for s, c in self._coefficients.items()}
+                return self._replace(coefficients=coefficients, root=None)
         fresh = fresh._replace(circuit=self._circuit, substituted=self._substituted)
         return fresh.with_average_bias() if self._averaged else fresh
 
     def at_dc(self) -> Result:
         """The DC result (``s = 0``) of a Laplace-domain one; a DC result is returned as is.
 
-        Re-derived at DC, so a circuit that has no DC solution (an integrator)
-        raises the DC error rather than giving infinities.
+        Re-derived at DC (once, for the result :meth:`subs` started from), so a
+        circuit that has no DC solution (an integrator) raises the DC error rather
+        than giving infinities.
 
         Examples
         --------
@@ -299,11 +332,14 @@ class Result(FrequencyResponse):
         """
         if self._domain == "dc":
             return self
-        fresh = call("derive", self._circuit, self._output, values=self._fixed)
-        if self._post:
-            fresh = fresh.subs({k: v for k, v in self._post.items()})
-        fresh = fresh._replace(substituted=self._substituted)
-        return fresh.with_average_bias() if self._averaged else fresh
+        if "dc" not in self._memo:  # derived once per root
+            if self._root is not None:
+                fresh = self._root.at_dc().subs(self._post)
+            else:
+                fresh = call("derive", self._circuit, self._output, values=self._fixed)
+            fresh = fresh._replace(substituted=self._substituted)
+            self._memo["dc"] = fresh.with_average_bias() if self._averaged else fresh
+        return self._memo["dc"]
 
     # -- analyses ---------------------------------------------------------------------
 
@@ -439,17 +475,27 @@ class Result(FrequencyResponse):
         amp = self._circuit.element(opamp)
         if not isinstance(amp, OpAmp):
             raise UnknownNameError(f"{opamp} is a {amp.kind}, not an op-amp")
+        if ("common mode", opamp) in self._memo:
+            return self._memo["common mode", opamp]
         total = sp.S.Zero
         for pin in (amp.plus, amp.minus):
             if pin == "0":
                 continue
-            at_pin = call("derive", self._circuit, pin, values=self._fixed)
+            at_pin = self._at_node(pin)
             subs = {**self._fixed, **self._post}
             for info in at_pin.sources:
                 if info.kind == "signal":
                     value = info.value.xreplace(subs) if subs else info.value
                     total += at_pin.compact_coefficient(info.symbol).xreplace(subs) * value
-        return tidy(total / 2, deep=True)
+        self._memo["common mode", opamp] = tidy(total / 2, deep=True)
+        return self._memo["common mode", opamp]
+
+    def _at_node(self, node: str) -> Result:
+        """The DC result at another node of the same circuit, derived once per root."""
+        base = self._root or self
+        if ("node", node) not in base._memo:
+            base._memo["node", node] = call("derive", self._circuit, node, values=self._fixed)
+        return base._memo["node", node]
 
     def compact_coefficient(self, source: str | sp.Symbol) -> sp.Expr:
         """One coefficient exactly as solved (see :attr:`terms`)."""
@@ -513,6 +559,7 @@ class Result(FrequencyResponse):
             "averaged": self._averaged,
             "substituted": self._substituted,
             "domain": self._domain,
+            "root": self._root,
         }
         state.update(changes)
         return Result(**state)

@@ -109,8 +109,8 @@ def _prepare(
     terms = dict(result.terms)  # as solved: never factored before numbers go in
     names = _names(terms)
     circuit = getattr(result, "circuit", None)
-    given = _given(values, names, circuit)
-    exact, ideal = _exact_values(names, given, opamps, grade)
+    given, exact_given = _given(values, names, circuit)
+    exact, ideal = _exact_values(names, exact_given, opamps, grade)
     lines, derived = _lines(result, terms, exact, given, opamps, progress)
     sig = _chosen_signal(signal, result.signals)
     sig_value = given.get(sig) if sig else None
@@ -160,9 +160,16 @@ def _names(terms: Mapping[sp.Symbol, sp.Expr]) -> dict[str, sp.Symbol]:
     return _by_name(free)
 
 
-def _given(values: Any, names: Mapping[str, sp.Symbol], circuit: Any) -> dict[str, float]:
-    """The user's numbers by name, each name checked against the result and circuit."""
+def _given(
+    values: Any, names: Mapping[str, sp.Symbol], circuit: Any
+) -> tuple[dict[str, float], dict[str, sp.Expr]]:
+    """The user's numbers by name, as floats and exactly; each name checked.
+
+    An exact rational given (a design file's number) is kept as it is; any
+    other number is the exact rational of its float's shortest decimal.
+    """
     given: dict[str, float] = {}
+    exact: dict[str, sp.Expr] = {}
     for key, raw in (values or {}).items():
         name = key.name if isinstance(key, sp.Symbol) else str(key)
         if name not in names and not (circuit is not None and _circuit_knows(circuit, name)):
@@ -171,11 +178,12 @@ def _given(values: Any, names: Mapping[str, sp.Symbol], circuit: Any) -> dict[st
                 f"{', '.join(sorted(names))}"
             )
         given[name] = parse_quantity(raw, where=f"values[{name!r}]")
-    return given
+        exact[name] = raw if isinstance(raw, sp.Rational) else exact_number(given[name])
+    return given, exact
 
 
 def _exact_values(
-    names: Mapping[str, sp.Symbol], given: Mapping[str, float], opamps: Any, grade: str
+    names: Mapping[str, sp.Symbol], given: Mapping[str, sp.Expr], opamps: Any, grade: str
 ) -> tuple[Exact, Exact]:
     """Exact numbers for every symbol: at the finite gains, and with every gain at ∞."""
     subs: dict[sp.Symbol, sp.Expr] = {}
@@ -183,7 +191,7 @@ def _exact_values(
     for name, sym in names.items():
         owner, dot, what = name.partition(".")
         if name in given:
-            subs[sym] = exact_number(given[name])
+            subs[sym] = given[name]
         elif dot and owner in opamps and _scales(what):
             v = opamps[owner].value(SYMBOLS[what].datasheet, grade)
             if v is None:

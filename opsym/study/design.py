@@ -40,8 +40,9 @@ True
 
 from __future__ import annotations
 
-from collections.abc import Callable
-from dataclasses import dataclass
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from types import MappingProxyType
 from typing import Any
 
 import sympy as sp
@@ -50,14 +51,16 @@ from ..analyses.operating import OperatingPoint, Rails, operating_point
 from ..errors import BudgetError, OpsymError
 from ..io.design import Design
 from ..model.symbols import SYMBOLS
+from ..numeric._numbers import Exact
 from ..numeric.adc import ADC
 from ..numeric.eseries import NullChoice, choose_for_null
+from ..values import to_exact
 from .budget import Budget, error_budget
 from .frequency import NoiseReport, ResponseReport, run_noise, run_response
 from .temperature import TemperatureSweep, budget_over_temperature
 from .tolerance import ToleranceStudy, tolerance_analysis
 
-__all__ = ["Study", "rails_of", "run_design"]
+__all__ = ["Study", "design_values", "numeric_values", "rails_of", "run_design"]
 
 Progress = Callable[[int, int, str], Any]
 
@@ -92,6 +95,8 @@ class Study:
         The nominal DC operating point, each op-amp checked against its rails.
     operating_problem : str
         Why there is no operating point (a component without a number ...).
+    values : mapping of str to sympy.Expr
+        The one exact values map every analysis took (:func:`design_values`).
     """
 
     design: Design
@@ -107,6 +112,7 @@ class Study:
     noise: NoiseReport | None = None
     operating: OperatingPoint | None = None
     operating_problem: str = ""
+    values: Mapping[str, sp.Expr] = field(default_factory=dict)
 
 
 def run_design(design: Design, progress: Progress | None = None) -> Study:
@@ -118,9 +124,9 @@ def run_design(design: Design, progress: Progress | None = None) -> Study:
         From the derivation or the numeric analyses (a missing value, a
         parameter set the budget needs, ...); messages say what to add.
     """
-    result = design.analyze(progress=progress)
+    result = design.analyze(progress=progress)  # the one DC derivation: every study reuses it
     _phase(progress, "operating point and nulls")
-    values = numeric_values(design)
+    values = design_values(design)  # exact; floats only inside the numeric kernels
     numbers = _term_numbers(result, values)
     operating, problem, rails = None, "", rails_of(design)
     try:
@@ -188,7 +194,7 @@ def run_design(design: Design, progress: Progress | None = None) -> Study:
         noise = run_noise(design, values, design.noise, progress)
     return Study(
         design, result, numbers, conditions, tuple(choices), tuple(sens), budget, sweep,
-        tuple(studies), response, noise, operating, problem,
+        tuple(studies), response, noise, operating, problem, MappingProxyType(values),
     )  # fmt: skip
 
 
@@ -199,22 +205,53 @@ def _phase(progress: Any, name: str) -> None:
         start(name)
 
 
-def numeric_values(design: Design) -> dict[str, float]:
-    """Nominal numbers plus what each op-amp's parameter set gives that the file does not.
+def design_values(design: Design) -> dict[str, sp.Expr]:
+    """The design's exact numbers plus what each op-amp's parameter set gives that it does not.
 
-    Gain (``A``, and ``A0`` of the single-pole model), CMRR and PSRR at the
-    budget's grade; ``GBW`` and the noise densities and corners (``en``,
-    ``in``, ``fce``, ``fci``) are typical values. Numbers in the file win.
+    The file's numbers stay the exact SymPy numbers it was read to. Gain
+    (``A``, and ``A0`` of the single-pole model), CMRR and PSRR come from the
+    set at the budget's grade; ``GBW`` and the noise densities and corners
+    (``en``, ``in``, ``fce``, ``fci``) are typical values; each set's number
+    is taken as the exact rational of its shortest decimal. Numbers in the
+    file win.
+
+    Examples
+    --------
+    >>> from opsym.io.designfile import parse_design
+    >>> d = parse_design('''
+    ... output = "out"
+    ... [resistors]
+    ... R1 = { between = ["in", "out"], value = "4k7" }
+    ... [voltage-sources]
+    ... Vin = { plus = "in", minus = "0", value = "0.1" }
+    ... [opamps.U1]
+    ... plus = "0"
+    ... minus = "in"
+    ... out = "out"
+    ... parameters = "generic JFET"
+    ... ''')
+    >>> v = design_values(d)
+    >>> v["R1"], v["Vin"], v["U1.en"]  # en from the set: 12 nV/√Hz
+    (4700, 1/10, 3/250000000)
     """
-    values = design.numeric_values()
+    values = dict(design.values)
     grade = design.budget.grade if design.budget is not None else "typical"
     for amp in design.circuit.opamps:
         params = design.opamps.get(amp.name)
         if params is None:
             continue
         for name, number in params.values_for(amp.name, grade).items():
-            values.setdefault(name, number)
+            if name not in values:
+                values[name] = to_exact(number, f"parameter set {params.name!r}: {name}")
     return values
+
+
+def numeric_values(design: Design) -> dict[str, float]:
+    """:func:`design_values` as floats, for a caller that wants plain numbers.
+
+    The analyses of :func:`run_design` take the exact map; this is a view of it.
+    """
+    return {name: float(v) for name, v in design_values(design).items()}
 
 
 def rails_of(design: Design) -> dict[str, Rails]:
@@ -257,22 +294,23 @@ def _magnitude(design: Design, term: str) -> float | None:
     return params.value(spec.datasheet, grade)
 
 
-def _term_numbers(result: Any, values: dict[str, float]) -> dict[sp.Symbol, float]:
-    subs = {}
-    for coeff in result.terms.values():
-        for s in coeff.free_symbols:
-            if s.name in values:
-                subs[s] = sp.Float(values[s.name])  # a lone symbol becomes a SymPy number
+def _term_numbers(result: Any, values: Mapping[str, sp.Expr]) -> dict[sp.Symbol, float]:
+    """Each coefficient whose symbols all have numbers, evaluated exactly, then a float."""
+    terms = result.terms
+    free = {s for coeff in terms.values() for s in coeff.free_symbols}
+    exact = Exact({s: values[s.name] for s in free if s.name in values})
     out = {}
-    for source, coeff in result.terms.items():
-        v = coeff.xreplace(subs)
-        if not v.free_symbols:
-            out[source] = float(v)
+    for source, coeff in terms.items():
+        if all(s.name in values for s in coeff.free_symbols):
+            try:
+                out[source] = exact.number(coeff, f"the coefficient of {source}")
+            except BudgetError:  # not a finite real number: shown without one
+                continue
     return out
 
 
 def _budget(
-    design: Design, result: Any, values: dict[str, float]
+    design: Design, result: Any, values: Mapping[str, sp.Expr]
 ) -> tuple[Budget, TemperatureSweep | None]:
     s = design.budget
     options: dict[str, Any] = {"signal": design.signal}

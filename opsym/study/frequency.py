@@ -33,13 +33,13 @@ Examples
 ... from = "10 Hz"
 ... to = "10 kHz"
 ... ''')
->>> from opsym.study.design import numeric_values
->>> r = run_response(d, numeric_values(d), d.response)
+>>> from opsym.study.design import design_values
+>>> r = run_response(d, design_values(d), d.response)
 >>> round(r.bandwidth / 1e3, 1)  # GBW / noise gain 10, as the trade estimates it
 100.0
 >>> round(abs(r.points[0].error) * 100, 2)  # |H/H_ideal - 1| at 10 kHz, in %: f·NG/GBW
 9.95
->>> n = run_noise(d, numeric_values(d), d.noise)
+>>> n = run_noise(d, design_values(d), d.noise)
 >>> round(n.budget.total * 1e6, 2)  # µV: √((10n·10)² + (4.06n·9)² + 12.2n²)·√(9990 Hz)
 10.69
 """
@@ -265,10 +265,14 @@ class NoiseReport:
 
 
 def run_response(
-    design: Design, values: Mapping[str, float], settings: ResponseSettings,
+    design: Design, values: Mapping[str, Any], settings: ResponseSettings,
     progress: Any = None,
 ) -> ResponseReport:
     """Evaluate the ``[response]`` of ``design`` with the numbers ``values``.
+
+    ``values`` is the exact map of :func:`opsym.study.design.design_values`;
+    the Laplace-domain result is derived once, and the ideal-op-amp gain the
+    gain error needs is its limit, not a second derivation.
 
     Raises
     ------
@@ -307,7 +311,7 @@ def run_response(
 
 
 def run_noise(
-    design: Design, values: Mapping[str, float], settings: NoiseSettings, progress: Any = None
+    design: Design, values: Mapping[str, Any], settings: NoiseSettings, progress: Any = None
 ) -> NoiseReport:
     """Run the ``[noise]`` analysis of ``design`` over its band.
 
@@ -340,8 +344,8 @@ def run_noise(
 # -- helpers -------------------------------------------------------------------------------
 
 
-def _element_values(design: Design, values: Mapping[str, float]) -> dict[str, Any]:
-    """The numbers to put in: exact ones from the file, the rest as given; no signals."""
+def _element_values(design: Design, values: Mapping[str, Any]) -> dict[str, Any]:
+    """The numbers to put in (the file's exact ones win over any float given); no signals."""
     signals = {
         e.name for e in design.circuit.elements if isinstance(e, (VoltageSource, CurrentSource))
     }
