@@ -115,6 +115,7 @@ def _parser() -> argparse.ArgumentParser:
         "without deriving anything. Prints one line per file.",
     )  # fmt: skip
     check.add_argument("files", nargs="+", metavar="FILE", help="design files (.toml)")
+    _netlist_options(check)
     check.set_defaults(run=_check)
 
     report = commands.add_parser(
@@ -140,6 +141,7 @@ def _parser() -> argparse.ArgumentParser:
     report.add_argument(
         "--quiet", "-q", action="store_true", help="no summary on standard output, no progress"
     )
+    _netlist_options(report)
     report.set_defaults(run=_report)
 
     rewrite = commands.add_parser(
@@ -150,6 +152,31 @@ def _parser() -> argparse.ArgumentParser:
     rewrite.add_argument("file", metavar="FILE", help="design file (.toml)")
     rewrite.set_defaults(run=_rewrite)
     return parser
+
+
+def _netlist_options(command: argparse.ArgumentParser) -> None:
+    """``--output`` and ``--opamp-pins``: what a SPICE netlist does not say (docs/netlists.md)."""
+    netlists = command.add_argument_group("SPICE netlists (.cir, .net, .sp, .spice)")
+    netlists.add_argument(
+        "--output", metavar="NODE", help="the output node (a,b for V(a) - V(b))"
+    )
+    netlists.add_argument(
+        "--opamp-pins", metavar="[MODEL=]PINS", action="append",
+        help="pin order of op-amp subcircuits, e.g. --opamp-pins=OPAMP=+,-,v+,v-,out "
+        "(without MODEL= for every model; default: +,-,out then ignored supplies)",
+    )  # fmt: skip
+
+
+def _reading(args: argparse.Namespace) -> dict[str, Any]:
+    pins: dict[str, list[str]] | list[str] | None = None
+    for text in args.opamp_pins or ():
+        model, _, order = text.rpartition("=")
+        if model:
+            pins = {**(pins if isinstance(pins, dict) else {}), model: order.split(",")}
+        else:
+            pins = order.split(",")
+    given = {"output": args.output, "opamps": pins}
+    return {k: v for k, v in given.items() if v is not None}
 
 
 # -- commands ------------------------------------------------------------------------------
@@ -165,7 +192,7 @@ def _check(args: argparse.Namespace) -> int:
     failed = 0
     for name in args.files:
         try:
-            d = designfile.load_design(name)
+            d = designfile.load_design(name, **_reading(args))
         except OpsymError as err:
             _fail(str(err))
             failed += 1
@@ -183,7 +210,7 @@ def _rewrite(args: argparse.Namespace) -> int:
 
 def _report(args: argparse.Namespace) -> int:
 
-    design = designfile.load_design(args.file)
+    design = designfile.load_design(args.file, **_reading(args))
     progress = None if args.quiet else _Progress(sys.stderr)
     study = run_design(design, progress=progress)
     if progress is not None:

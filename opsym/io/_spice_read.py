@@ -93,6 +93,7 @@ class NetlistReader:
 
     def read(self, output: str | Sequence[str] | None) -> Design:
         first = self.text.splitlines()[0] if self.text.strip() else ""
+        first = first[len(".title") :] if first.lower().startswith(".title") else first
         title = first.lstrip("*").strip() or os.path.splitext(os.path.basename(self.file))[0]
         lines = list(logical_lines(self.text))
         lines = self.skip_blocks(lines)
@@ -174,6 +175,10 @@ class NetlistReader:
             return spice_number(word, what)
         except OpsymError as err:
             raise self.error(line, str(err)) from None
+
+    @staticmethod
+    def numeric(word: str) -> bool:
+        return word.startswith("{") or word[:1] in "0123456789.+-"
 
     def param(self, line: SpiceLine) -> None:
         words = line.words[1:]
@@ -303,14 +308,14 @@ class NetlistReader:
                 dc, i = self.value(line, rest[i + 1], name), i + 2
             elif word == "ac":
                 ac, i = sp.S.One, i + 1
-                if i < len(rest) and rest[i].lower() not in {"dc"} | _TRANSIENT:
+                if i < len(rest) and self.numeric(rest[i]):
                     ac, i = self.value(line, rest[i], name), i + 1
-                if i < len(rest) and rest[i].lower() not in {"dc"} | _TRANSIENT:
+                if i < len(rest) and self.numeric(rest[i]):
                     i += 1  # the AC phase
-            elif word in _TRANSIENT:
-                close = rest.index(")", i) if ")" in rest[i:] else len(rest)
-                self.note(line, f"the transient function {rest[i]} is ignored")
-                i = close + 1
+            elif re.sub(r"[^a-z].*", "", word) in _TRANSIENT:
+                end = next((k for k in range(i, len(rest)) if ")" in rest[k]), len(rest))
+                self.note(line, f"the transient function {' '.join(rest[i : end + 1])} is ignored")
+                i = end + 1
             elif i == 0:
                 dc, i = self.value(line, rest[0], name), 1
             else:
@@ -326,8 +331,9 @@ class NetlistReader:
             self.ac.append(name)
 
     def vcvs(self, line: SpiceLine) -> None:
-        w = self.count(line, 6)
-        if len(w) != 6 or not w[3:5] or w[1].lower() in ("0", "gnd"):
+        w = self.count(line, 4)
+        keywords = {"value", "poly", "table", "laplace", "freq", "="}
+        if len(w) != 6 or {x.lower().split("(")[0] for x in w} & keywords or w[1] in ("0", "gnd"):
             raise self.error(
                 line, "opsym maps only a linear E source 'E1 out 0 in+ in- gain' (an op-amp of "
                 "that gain); write POLY, VALUE and tables as their own stages"

@@ -64,14 +64,22 @@ class SpiceLine:
 
 
 def spice_number(word: str, where: str) -> sp.Expr:
-    """Read one SPICE number (``4k7`` is not SPICE: it reads as 4k) exactly.
+    """Read one SPICE number exactly.
 
     Raises
     ------
     DesignFileError
-        The word is not a number in SPICE's syntax.
+        The word is not a number in SPICE's syntax, or is written like ``4k7``
+        (SPICE reads 4k, ignoring the rest, though 4.7k may be meant).
     """
     m = _NUMBER.match(word)
+    split = re.match(r"^[0-9]+([A-Za-z]+)[0-9]+$", word)
+    if m is None and split is not None:
+        raise DesignFileError(
+            f"{where}: {word!r} is ambiguous: SPICE ignores what follows the scale factor and "
+            f"reads {word[: split.end(1)]}, but it may mean a decimal point there; write e.g. "
+            f"{word[: split.start(1)]}.{word[split.end(1) :]}{split.group(1)}"
+        )
     if m is None:
         raise DesignFileError(
             f"{where}: {word!r} is not a SPICE number; write e.g. 10k, 4.7u, 1meg or 2.2e-9"
@@ -117,7 +125,7 @@ def logical_lines(text: str) -> Iterator[SpiceLine]:
 
 
 def _words(body: str) -> list[str]:
-    """Split at blanks; ``=`` and parentheses stand as words of their own."""
+    """Split at blanks and commas; ``=`` stands as a word of its own."""
     tight = re.sub(r"\{\s*([^{}]*?)\s*\}", r"{\1}", body)  # { R1 } is {R1}
-    spaced = re.sub(r"([=()])", r" \1 ", tight.replace(",", " "))
+    spaced = tight.replace("=", " = ").replace(",", " ")
     return spaced.split()

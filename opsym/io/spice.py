@@ -299,4 +299,3 @@ class _Writer:
 
 def _safe(text: str) -> str:
     return text.replace("+", "p").replace("-", "m")
-
