@@ -7,6 +7,7 @@ Commands::
     opsym report FILE [options]     every term, the conditions, the budget, the
                                     frequency response and the noise budget
     opsym rewrite FILE              print the design file as opsym writes it
+    opsym export FILE --netlist OUT write a SPICE netlist to check in a simulator
 
 ``opsym report`` prints its summary on standard output; ``--latex``,
 ``--markdown`` and ``--figures`` write design notes and figures as well.
@@ -34,6 +35,7 @@ from . import __version__
 from .demo import run  # imported here: the demo pulls in the whole library
 from .errors import OpsymError
 from .io import designfile  # called as designfile.load_design, so tests can stand in
+from .io.spice import write_netlist
 from .io.writer import dump_design
 from .output.circuit_text import element_lines
 from .output.figures import (
@@ -151,6 +153,20 @@ def _parser() -> argparse.ArgumentParser:
     )  # fmt: skip
     rewrite.add_argument("file", metavar="FILE", help="design file (.toml)")
     rewrite.set_defaults(run=_rewrite)
+
+    export = commands.add_parser(
+        "export", help="write a design as a SPICE netlist, to check the numbers in a simulator",
+        description="Write the circuit of a design (or netlist) with its values as a SPICE "
+        "netlist: op-amps as controlled sources of the same gain model, their offset and bias "
+        "currents as V and I sources (docs/netlists.md).",
+    )  # fmt: skip
+    export.add_argument("file", metavar="FILE", help="design file (.toml) or netlist")
+    export.add_argument("--netlist", metavar="PATH", type=Path, required=True,
+                        help="the netlist to write (.cir)")  # fmt: skip
+    export.add_argument("--grade", choices=("typical", "max"), default="typical",
+                        help="parameter-set grade of Vos, Ib, A (default typical)")  # fmt: skip
+    _netlist_options(export)
+    export.set_defaults(run=_export)
     return parser
 
 
@@ -205,6 +221,14 @@ def _check(args: argparse.Namespace) -> int:
 def _rewrite(args: argparse.Namespace) -> int:
 
     sys.stdout.write(dump_design(designfile.load_design(args.file)))
+    return 0
+
+
+def _export(args: argparse.Namespace) -> int:
+
+    text = write_netlist(designfile.load_design(args.file, **_reading(args)), grade=args.grade)
+    _write_all([], {args.netlist: text})
+    print(f"{args.netlist}: written")
     return 0
 
 

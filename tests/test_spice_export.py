@@ -162,3 +162,23 @@ def test_the_exported_netlist_matches_the_reference_runner(ngspice, stage, sourc
     rows = np.array([[float(x) for x in ln.split()] for ln in files["ac.txt"].splitlines()[1:]])
     np.testing.assert_allclose(rows[:, 0], f_ref, rtol=1e-12)
     np.testing.assert_allclose(rows[:, 1] + 1j * rows[:, 2], h_ref, rtol=REL)
+
+
+def test_command_line_export_of_an_example_design(ngspice, tmp_path, capsys):
+    """``opsym export`` of docs/examples/inverting-bias-compensation.toml, run in ngspice."""
+    from pathlib import Path
+
+    from opsym.cli import main
+
+    toml = Path(__file__).resolve().parents[1] / "docs/examples/inverting-bias-compensation.toml"
+    out = tmp_path / "stage.cir"
+    assert main(["export", str(toml), "--netlist", str(out)]) == 0
+    assert "stage.cir: written" in capsys.readouterr().out
+    design = opsym.load_design(toml)
+    p = design.opamps["U1"]
+    vos, ib, ios = (p.value(k, "typical") for k in ("vos", "ib", "ios"))
+    values = {**design.values, "U1.Vos": vos, "U1.Ib+": ib + ios / 2, "U1.Ib-": ib - ios / 2,
+              **p.values_for("U1", "typical")}  # fmt: skip
+    expected = float(design.circuit.analyze("out").subs(values).expression)  # Ib+, Ib-
+    text = out.read_text(encoding="utf-8").replace(".op\n", "\n".join(_OP) + "\n")
+    assert _op(ngspice, text)["out"] == pytest.approx(expected, rel=REL)

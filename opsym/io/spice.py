@@ -117,7 +117,7 @@ def write_netlist(
     values: Mapping[Any, Any] | None = None,
     *,
     params: Mapping[str, OpAmpParams] | None = None,
-    grade: str = "typ",
+    grade: str = "typical",
     signal: str | None = None,
     commands: Sequence[str] = (".op",),
     ideal_gain: float = IDEAL_GAIN,
