@@ -173,9 +173,7 @@ def _parser() -> argparse.ArgumentParser:
 def _netlist_options(command: argparse.ArgumentParser) -> None:
     """``--output`` and ``--opamp-pins``: what a SPICE netlist does not say (docs/netlists.md)."""
     netlists = command.add_argument_group("SPICE netlists (.cir, .net, .sp, .spice)")
-    netlists.add_argument(
-        "--output", metavar="NODE", help="the output node (a,b for V(a) - V(b))"
-    )
+    netlists.add_argument("--output", metavar="NODE", help="output node (a,b: V(a) - V(b))")
     netlists.add_argument(
         "--opamp-pins", metavar="[MODEL=]PINS", action="append",
         help="pin order of op-amp subcircuits, e.g. --opamp-pins=OPAMP=+,-,v+,v-,out "
