@@ -93,6 +93,12 @@ class NetlistReader:
 
     def read(self, output: str | Sequence[str] | None) -> Design:
         first = self.text.splitlines()[0] if self.text.strip() else ""
+        card = r"^\s*[RCLVI][a-z_]*[0-9]\w*\s+\S+\s+\S+\s+(dc\s+)?([0-9.]+[a-z]*|\{\w+\})\s*$"
+        if re.match(card, first, re.IGNORECASE):
+            raise DesignFileError(
+                f"{self.file}: line 1 ({first.strip()!r}) looks like an element, but the first "
+                "line of a netlist is its title (SPICE would drop this element); add a title line"
+            )
         first = first[len(".title") :] if first.lower().startswith(".title") else first
         title = first.lstrip("*").strip() or os.path.splitext(os.path.basename(self.file))[0]
         lines = list(logical_lines(self.text))
@@ -291,8 +297,10 @@ class NetlistReader:
                     "series or parallel part as its own element and remove the rest"
                 )  # fmt: skip
             self.note(line, f"{' '.join(extra)} ignored (initial condition or temperature law)")
-        if value.is_number and value.is_zero and name[0] in "rR":
+        if value.is_zero and name[0] in "rR":
             raise self.error(line, f"{name} = 0 Ω; join its two nodes instead (a wire)")
+        if not value.is_positive:
+            raise self.error(line, f"{name} = {value} is not positive; give a value > 0")
         add = {"r": self.circuit.resistor, "c": self.circuit.capacitor,
                "l": self.circuit.inductor}[name[0].lower()]  # fmt: skip
         add(name, a, b)

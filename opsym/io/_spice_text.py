@@ -92,7 +92,12 @@ def spice_number(word: str, where: str) -> sp.Expr:
         scale = _MIL
     elif letters and letters[0] in _SCALE:
         scale = _SCALE[letters[0]]
-    return to_exact(mantissa * scale, where)
+    value = mantissa * scale
+    if value and not Fraction(1, 10**150) <= abs(value) <= 10**150:
+        raise DesignFileError(
+            f"{where}: {word!r} is outside 1e-150 … 1e150 in magnitude; check the exponent"
+        )
+    return to_exact(value, where)
 
 
 def logical_lines(text: str) -> Iterator[SpiceLine]:

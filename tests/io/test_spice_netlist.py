@@ -161,6 +161,8 @@ def test_e_source_becomes_an_opamp_of_that_gain():
         ("R1 in 0 1k", r"R1 is defined twice"),
         ("V9 in 0 DC 1 foo", r"'foo': a source reads"),
         ("R9 in out ten", r"'ten' is not a SPICE number"),
+        ("R9 in out -1k", r"R9 = -1000 is not positive"),
+        ("C9 in out 1e-200", r"outside 1e-150"),
         ("R9 in out 4k7", r"'4k7' is ambiguous: SPICE .* reads 4k, .* write e.g. 4.7k"),
     ],
 )
@@ -180,6 +182,8 @@ def test_blocks_and_output_errors():
         opsym.read_netlist(sub)
     with pytest.raises(DesignFileError, match=r"output node 'nowhere' is not in the netlist"):
         opsym.read_netlist(sub, output="nowhere")
+    with pytest.raises(DesignFileError, match=r"line 1 \('R1 in out 1k'\) looks like an element"):
+        opsym.read_netlist("R1 in out 1k\nR2 out 0 1k\nV1 in 0 1\n", output="out")
     with pytest.raises(DesignFileError, match="continuation with no line before it"):
         opsym.read_netlist("t\n+ 1k\n", output="out")
     with pytest.raises(DesignFileError, match="has 3 pins but the pin map"):
