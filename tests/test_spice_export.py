@@ -182,3 +182,18 @@ def test_command_line_export_of_an_example_design(ngspice, tmp_path, capsys):
     expected = float(design.circuit.analyze("out").subs(values).expression)  # Ib+, Ib-
     text = out.read_text(encoding="utf-8").replace(".op\n", "\n".join(_OP) + "\n")
     assert _op(ngspice, text)["out"] == pytest.approx(expected, rel=REL)
+
+
+def test_names_spice_would_confuse_are_kept_apart():
+    """SPICE ignores case and reads a card by its first letter; opsym does neither."""
+    c = opsym.Circuit("names")
+    c.voltage_source("Sig", "in+", "0")
+    c.resistor("Rtop", "in+", "A")
+    c.resistor("Z1", "A", "a")  # a resistor not named R…, between nodes A and a
+    c.resistor("Rbot", "a", "0")
+    values = {"Sig": 1.0, "Rtop": 1e3, "Z1": 2e3, "Rbot": 3e3}
+    text = opsym.write_netlist(c, values)
+    assert "V_Sig in_ 0" in text and "R_Z1 A a_ 2000.0" in text
+    d = opsym.read_netlist(text, output="a_")
+    # divider [pub]: V(a) = Rbot/(Rtop + Z1 + Rbot)
+    assert d.analyze().subs(d.values).coefficient("V_Sig") == sp.Rational(1, 2)

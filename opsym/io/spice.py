@@ -163,7 +163,7 @@ class _Writer:
     ) -> None:  # fmt: skip
         self.circuit, self.params, self.grade, self.ideal = circuit, params, grade, ideal_gain
         self.values = {str(k): v for k, v in values.items()}
-        self.taken: set[str] = set()
+        self.taken: dict[str, set[str]] = {"node": set(), "card": set()}
         self.nodes: dict[str, str] = {"0": "0"}
         self.lines: list[str] = []
 
@@ -184,14 +184,15 @@ class _Writer:
     def node(self, n: str) -> str:
         if n not in self.nodes:
             base = n if _SAFE.match(n) else re.sub(r"[^A-Za-z0-9_]", "_", n)
-            self.nodes[n] = self.fresh(base)
+            self.nodes[n] = self.fresh(base, "node")
         return self.nodes[n]
 
-    def fresh(self, base: str) -> str:
-        name = base
-        while name.lower() in self.taken or name.lower() == "gnd":
+    def fresh(self, base: str, space: str = "card") -> str:
+        """A name not yet used among nodes or cards (SPICE ignores case)."""
+        name, taken = base, self.taken[space]
+        while name.lower() in taken or name.lower() == "gnd":
             name += "_"
-        self.taken.add(name.lower())
+        taken.add(name.lower())
         return name
 
     def number(self, expr: Any, what: str) -> float:
@@ -253,7 +254,7 @@ class _Writer:
                 if isinstance(inj, SeriesVoltage):
                     v, how = self.source_value(amp, inj.source)
                     v *= self.parameter(amp, inj.weight)
-                    nxt = self.fresh(f"{tag}_p{len(rest) + 1}")
+                    nxt = self.fresh(f"{tag}_p{len(rest) + 1}", "node")
                     card = self.fresh(f"V_{tag}_{_safe(inj.source.name.split('.')[1])}")
                     rest.append(f"{card} {nxt} {inner} DC {v!r} ; {inj.source.name}{how}")
                     inner = nxt
@@ -286,7 +287,7 @@ class _Writer:
             )
         a0_sym, gbw_sym = SinglePole().parameters(amp.name)
         a0, gbw = self.parameter(amp, a0_sym), self.parameter(amp, gbw_sym)
-        x, y = self.fresh(f"{tag}_a"), self.fresh(f"{tag}_pole")
+        x, y = self.fresh(f"{tag}_a", "node"), self.fresh(f"{tag}_pole", "node")
         r, c = self.fresh(f"R_{tag}_pole"), self.fresh(f"C_{tag}_pole")
         cap = a0 / (2 * math.pi * gbw * 1000.0)
         return [
