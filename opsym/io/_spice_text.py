@@ -4,8 +4,8 @@ SPICE's value rules differ from opsym's own value syntax and live here only:
 scale factors are case-insensitive, so ``M`` and ``m`` are both milli and mega
 is ``meg``; ``mil`` is 25.4e-6 (a thousandth of an inch); letters after a
 number or its scale factor are ignored (``10kohm`` is 10k, ``1uF`` is 1u, and
-``1F`` is one femto, as SPICE reads it). The reader converts every number to
-an exact rational.
+``1F`` is one femto, as SPICE reads it). ``4k7`` is refused: SPICE reads 4k,
+though 4.7k may be meant. The reader converts every number to an exact rational.
 
 Examples
 --------
