@@ -39,6 +39,7 @@ from .errors import (
 )
 from .io.design import Design
 from .io.designfile import load_design, parse_design
+from .io.spice import read_netlist, write_netlist
 from .io.writer import dump_design
 from .model import (
     BiasCurrents,
@@ -139,8 +140,10 @@ __all__ = [
     "parse_quantity",
     "parse_value",
     "preferred_value",
+    "read_netlist",
     "resistor_parameters",
     "s",
     "tolerance_analysis",
     "transfer_latex",
+    "write_netlist",
 ]

@@ -7,6 +7,7 @@ Commands::
     opsym report FILE [options]     every term, the conditions, the budget, the
                                     frequency response and the noise budget
     opsym rewrite FILE              print the design file as opsym writes it
+    opsym export FILE --netlist OUT write a SPICE netlist to check in a simulator
 
 ``opsym report`` prints its summary on standard output; ``--latex``,
 ``--markdown`` and ``--figures`` write design notes and figures as well.
@@ -37,6 +38,7 @@ from . import __version__
 from .demo import run  # imported here: the demo pulls in the whole library
 from .errors import OpsymError
 from .io import designfile  # called as designfile.load_design, so tests can stand in
+from .io.spice import write_netlist
 from .io.writer import dump_design
 from .output.report import FigurePlan, figure_plans, study_note
 from .output.summary import summary_text
@@ -109,6 +111,7 @@ def _parser() -> argparse.ArgumentParser:
         "without deriving anything. Prints one line per file.",
     )  # fmt: skip
     check.add_argument("files", nargs="+", metavar="FILE", help="design files (.toml)")
+    _netlist_options(check)
     check.set_defaults(run=_check)
 
     report = commands.add_parser(
@@ -134,6 +137,7 @@ def _parser() -> argparse.ArgumentParser:
     report.add_argument(
         "--quiet", "-q", action="store_true", help="no summary on standard output, no progress"
     )
+    _netlist_options(report)
     report.set_defaults(run=_report)
 
     rewrite = commands.add_parser(
@@ -143,7 +147,44 @@ def _parser() -> argparse.ArgumentParser:
     )  # fmt: skip
     rewrite.add_argument("file", metavar="FILE", help="design file (.toml)")
     rewrite.set_defaults(run=_rewrite)
+
+    export = commands.add_parser(
+        "export", help="write a design as a SPICE netlist, to check the numbers in a simulator",
+        description="Write the circuit of a design (or netlist) with its values as a SPICE "
+        "netlist: op-amps as controlled sources of the same gain model, their offset and bias "
+        "currents as V and I sources (docs/netlists.md).",
+    )  # fmt: skip
+    export.add_argument("file", metavar="FILE", help="design file (.toml) or netlist")
+    export.add_argument("--netlist", metavar="PATH", type=Path, required=True,
+                        help="the netlist to write (.cir)")  # fmt: skip
+    export.add_argument("--grade", choices=("typical", "max"), default="typical",
+                        help="parameter-set grade of Vos, Ib, A (default typical)")  # fmt: skip
+    _netlist_options(export)
+    export.set_defaults(run=_export)
     return parser
+
+
+def _netlist_options(command: argparse.ArgumentParser) -> None:
+    """``--output`` and ``--opamp-pins``: what a SPICE netlist does not say (docs/netlists.md)."""
+    netlists = command.add_argument_group("SPICE netlists (.cir, .net, .sp, .spice)")
+    netlists.add_argument("--output", metavar="NODE", help="output node (a,b: V(a) - V(b))")
+    netlists.add_argument(
+        "--opamp-pins", metavar="[MODEL=]PINS", action="append",
+        help="pin order of op-amp subcircuits, e.g. --opamp-pins=OPAMP=+,-,v+,v-,out "
+        "(without MODEL= for every model; default: +,-,out then ignored supplies)",
+    )  # fmt: skip
+
+
+def _reading(args: argparse.Namespace) -> dict[str, Any]:
+    pins: dict[str, list[str]] | list[str] | None = None
+    for text in args.opamp_pins or ():
+        model, _, order = text.rpartition("=")
+        if model:
+            pins = {**(pins if isinstance(pins, dict) else {}), model: order.split(",")}
+        else:
+            pins = order.split(",")
+    given = {"output": args.output, "opamps": pins}
+    return {k: v for k, v in given.items() if v is not None}
 
 
 # -- commands ------------------------------------------------------------------------------
@@ -159,7 +200,7 @@ def _check(args: argparse.Namespace) -> int:
     failed = 0
     for name in args.files:
         try:
-            d = designfile.load_design(name)
+            d = designfile.load_design(name, **_reading(args))
         except OpsymError as err:
             _fail(str(err))
             failed += 1
@@ -175,11 +216,19 @@ def _rewrite(args: argparse.Namespace) -> int:
     return 0
 
 
+def _export(args: argparse.Namespace) -> int:
+
+    text = write_netlist(designfile.load_design(args.file, **_reading(args)), grade=args.grade)
+    _write_all([], {args.netlist: text})
+    print(f"{args.netlist}: written")
+    return 0
+
+
 def _report(args: argparse.Namespace) -> int:
 
     notes = [p for p in (args.latex, args.markdown) if p is not None]
     _refuse_clashes(notes, [Path(args.file)])  # before the work, not after it
-    design = designfile.load_design(args.file)
+    design = designfile.load_design(args.file, **_reading(args))
     progress = None if args.quiet else _Progress(sys.stderr)
     try:
         study = run_design(design, progress=progress)

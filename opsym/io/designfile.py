@@ -95,8 +95,11 @@ _TOP_KEYS = ("format", "title", "notes", "output", "input", "rails", *ELEMENT_TA
 _SETTING_TABLES = ("analysis", "budget", "tolerance", "response", "noise")
 
 
-def load_design(path: str | os.PathLike[str]) -> Design:
-    """Read a design file.
+def load_design(path: str | os.PathLike[str], **options: Any) -> Design:
+    """Read a design file (or a netlist, by its suffix: see ``docs/netlists.md``).
+
+    ``options`` go to the reader of the suffix: a netlist takes ``output`` and
+    ``opamps`` (:func:`opsym.io.spice.read_netlist`).
 
     Raises
     ------
@@ -110,7 +113,7 @@ def load_design(path: str | os.PathLike[str]) -> Design:
         raise ArgumentTypeError(
             f"load_design: expected a file path such as 'amp.toml', not a {type(path).__name__}"
         )
-    return load(path)  # by suffix: this module reads .toml
+    return load(path, **options)  # by suffix: this module reads .toml
 
 
 @reader(".toml")

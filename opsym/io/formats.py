@@ -24,30 +24,40 @@ from typing import Any, TypeVar
 
 from ..errors import DesignFileError
 
-__all__ = ["MAX_BYTES", "READERS", "load", "reader"]
+__all__ = ["MAX_BYTES", "OPTIONS", "READERS", "load", "reader"]
 
 #: The largest design file read, in bytes.
 MAX_BYTES = 1_000_000
 
 #: Reader of each suffix: ``parse(text, filename=...)`` returning a Design.
 READERS: dict[str, Callable[..., Any]] = {}
+#: Reading options (such as a netlist's ``output``) each suffix's reader takes.
+OPTIONS: dict[str, tuple[str, ...]] = {}
 
 _F = TypeVar("_F", bound=Callable[..., Any])
 
 
-def reader(*suffixes: str) -> Callable[[_F], _F]:
-    """Register the decorated ``parse(text, *, filename)`` for files ending in ``suffixes``."""
+def reader(*suffixes: str, options: tuple[str, ...] = ()) -> Callable[[_F], _F]:
+    """Register the decorated ``parse(text, *, filename)`` for files ending in ``suffixes``.
+
+    ``options`` names the keyword arguments it takes besides ``filename``
+    (a netlist reader takes ``output``), passed on by :func:`load`.
+    """
 
     def register(parse: _F) -> _F:
         for suffix in suffixes:
             READERS[suffix.lower()] = parse
+            OPTIONS[suffix.lower()] = tuple(options)
         return parse
 
     return register
 
 
-def load(path: str | os.PathLike[str]) -> Any:
+def load(path: str | os.PathLike[str], **options: Any) -> Any:
     """Read the design in ``path`` with the reader of its suffix.
+
+    ``options`` given as ``None`` are left out; any other must be one the
+    suffix's reader takes (``output`` and ``opamps`` for netlists).
 
     Raises
     ------
@@ -64,7 +74,14 @@ def load(path: str | os.PathLike[str]) -> Any:
         raise DesignFileError(
             f"{name}: no reader for {suffix or 'suffix-less'!r} files; opsym reads {known}"
         )
-    return parse(_text(name), filename=name)
+    given = {k: v for k, v in options.items() if v is not None}
+    unknown = sorted(set(given) - set(OPTIONS.get(suffix, ())))
+    if unknown:
+        raise DesignFileError(
+            f"{name}: {', '.join(unknown)} applies to other formats, not to {suffix} files; "
+            "a design file states its output and op-amps itself"
+        )
+    return parse(_text(name), filename=name, **given)
 
 
 def _text(name: str) -> str:

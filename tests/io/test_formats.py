@@ -47,7 +47,7 @@ def test_a_registered_reader_serves_load_design_and_the_command_line(tmp_path, m
 
 
 def test_an_unknown_suffix_names_the_readers(tmp_path):
-    path = tmp_path / "design.cir"
+    path = tmp_path / "design.xyz"
     path.write_text("* a netlist\n", encoding="utf-8")
-    with pytest.raises(DesignFileError, match=r"no reader for .\.cir. files; opsym reads"):
+    with pytest.raises(DesignFileError, match=r"no reader for .\.xyz. files; opsym reads"):
         opsym.load_design(path)
