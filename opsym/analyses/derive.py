@@ -139,12 +139,12 @@ def derive(
     z = solve_adjoint(eqs, weights, progress=progress)
     sources = sources_of(circuit)
     return Result(
-        circuit=circuit,
-        output=label,
-        coefficients=coefficients_of(eqs, z, sources),
-        sources=tuple(sources),
-        fixed=fixed,
-        domain=domain,
+        _circuit=circuit,
+        _output=label,
+        _coefficients=coefficients_of(eqs, z, sources),
+        _sources=tuple(sources),
+        _fixed=fixed,
+        _domain=domain,
     )
 
 
