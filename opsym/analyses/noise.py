@@ -120,7 +120,7 @@ def noise(
     t_kelvin = kelvin(temperature)
     fixed = resolve_values(circuit, values)
     eqs = build_equations(circuit, fixed, domain="s", thermal=True)
-    weights, label = output_weights(circuit, output, eqs.index)
+    weights, label = output_weights(circuit, output, eqs.index, fixed, "s")
     z = solve_adjoint(eqs, weights, progress=progress)
     signals = [i for i in sources_of(circuit) if i.kind == "signal"]
     noisy = sources_of(circuit, noise=True)
