@@ -46,6 +46,7 @@ from .output.figures import (
 )
 from .output.notes import design_note
 from .output.sections import FrequencySection, NoiseSection
+from .output.stability import StabilitySection, stability_warnings
 from .study.design import run_design
 
 __all__ = ["main"]
@@ -197,6 +198,8 @@ def _report(args: argparse.Namespace) -> int:
     _write_all(plans, files)
     for warning in study.operating.warnings if study.operating is not None else ():
         print(f"opsym: warning: {_source(study)}: {warning}", file=sys.stderr)
+    for warning in stability_warnings(study.stability):
+        print(f"opsym: warning: {_source(study)}: {warning}", file=sys.stderr)
     if not args.quiet:
         _summary(study, sys.stdout)
         for path in [*(p.path for p in plans), *files]:
@@ -334,6 +337,7 @@ def _note(study: Any, fmt: str, plans: list[_Plan], path: Path, standalone: bool
         figures=figures(_BUDGET), frequency=frequency, noise=noise, fmt=fmt,
         standalone=standalone, values=d.values, notes=d.notes, parameters=d.opamps,
         resistors=d.resistors, grade=_grade(study), operating=study.operating,
+        stability=StabilitySection(study.stability) if study.stability else None,
     )  # fmt: skip
 
 

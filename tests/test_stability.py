@@ -197,3 +197,21 @@ def test_other_opamps_keep_their_loops():
 def test_not_an_opamp():
     with pytest.raises(opsym.UnknownNameError, match="R1"):
         opsym.loop_gain(_stage("finite"), "R1")
+
+
+def test_bode_plot_of_the_loop_gain_draws_on_given_axes(tmp_path):
+    pytest.importorskip("matplotlib")
+    from matplotlib.figure import Figure
+
+    from opsym.output.figures import loop_gain_chart
+
+    lg = opsym.loop_gain(_stage("pole", follower=True), "U1", {"U1.A0": 10**5, "U1.GBW": 10**6})
+    fig = Figure()
+    axes = fig.subplots(2, 1)
+    assert loop_gain_chart(lg, ax=axes, path=tmp_path / "t.png") is fig
+    assert (tmp_path / "t.png").stat().st_size > 0
+    # The magnitude line crosses 0 dB at the crossover, marked: 1 MHz (T = A, fc ≈ GBW).
+    x, y = axes[0].get_lines()[0].get_data()
+    assert np.interp(0.0, -y, x) == pytest.approx(1e6, rel=1e-3)
+    marks = [ln.get_xdata()[0] for ln in axes[0].get_lines()[1:] if ln.get_linestyle() == ":"]
+    assert marks and marks[0] == pytest.approx(1e6 * math.sqrt(1 - 1e-10), rel=1e-9)

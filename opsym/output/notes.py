@@ -127,6 +127,7 @@ def design_note(
     resistors: Mapping[str, Any] | None = None,
     grade: str = "max",
     operating: Any = None,
+    stability: Any = None,
 ) -> str:
     """Write a design-note section for one result.
 
@@ -169,6 +170,8 @@ def design_note(
         The grade the budget took from the parameter sets.
     operating : OperatingPoint, optional
         The nominal operating point (:func:`opsym.analyses.operating.operating_point`).
+    stability : StabilitySection, optional
+        Each op-amp loop's margins and warnings (:mod:`opsym.output.stability`).
 
     Returns
     -------
@@ -186,7 +189,7 @@ def design_note(
             "design_note: noise= takes a NoiseSection; "
             "wrap the noise result and band: NoiseSection(noise, f_low, f_high)"
         )
-    extra = [s for s in (frequency, noise) if s is not None]
+    extra = [s for s in (frequency, stability, noise) if s is not None]
     circuit = getattr(result, "circuit", None)
     title = title or f"Design note: {getattr(circuit, 'title', '') or 'circuit'}"
     shown = result

@@ -54,6 +54,7 @@ from ..numeric.adc import ADC
 from ..numeric.eseries import NullChoice, choose_for_null
 from .budget import Budget, error_budget
 from .frequency import NoiseReport, ResponseReport, run_noise, run_response
+from .stability import DEFAULT_PHASE_MARGIN, LoopReport, run_stability
 from .temperature import TemperatureSweep, budget_over_temperature
 from .tolerance import ToleranceStudy, tolerance_analysis
 
@@ -92,6 +93,9 @@ class Study:
         The nominal DC operating point, each op-amp checked against its rails.
     operating_problem : str
         Why there is no operating point (a component without a number ...).
+    stability : tuple of LoopReport
+        With a ``[response]``: each op-amp loop's margins against the
+        ``phase-margin`` threshold (:mod:`opsym.study.stability`).
     """
 
     design: Design
@@ -107,6 +111,7 @@ class Study:
     noise: NoiseReport | None = None
     operating: OperatingPoint | None = None
     operating_problem: str = ""
+    stability: tuple[LoopReport, ...] = ()
 
 
 def run_design(design: Design, progress: Progress | None = None) -> Study:
@@ -178,9 +183,13 @@ def run_design(design: Design, progress: Progress | None = None) -> Study:
             )
     response = run_response(design, values, design.response) if design.response else None
     noise = run_noise(design, values, design.noise) if design.noise else None
+    stability: tuple[LoopReport, ...] = ()
+    if design.response is not None:
+        threshold = design.response.phase_margin or DEFAULT_PHASE_MARGIN
+        stability = run_stability(design, values, threshold)
     return Study(
         design, result, numbers, conditions, tuple(choices), tuple(sens), budget, sweep,
-        tuple(studies), response, noise, operating, problem,
+        tuple(studies), response, noise, operating, problem, stability,
     )  # fmt: skip
 
 
