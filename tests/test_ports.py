@@ -160,3 +160,15 @@ def test_refusals():
         c.analyze("I(I1)")
     with pytest.raises(opsym.UnknownNameError, match="R9"):
         c.analyze("I(R9)")
+
+
+def test_current_output_refused_where_tables_are_in_volts():
+    # A budget or noise table of a current would print amperes as volts: refused.
+    c = _basic_howland("finite")
+    values = {"R1": "10k", "R2": "10k", "R3": "10k", "R4": "10k", "RL": "1k", "U1.A": "100k"}
+    r = c.analyze("I(RL)", values=values)
+    params = opsym.opamp_parameters("generic precision bipolar")
+    with pytest.raises(opsym.BudgetError, match="branch current"):
+        opsym.error_budget(r, {}, opamps={"U1": params})
+    with pytest.raises(InvalidValueError, match="branch current"):
+        c.noise("I(RL)", values=values)

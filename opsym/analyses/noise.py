@@ -60,6 +60,7 @@ from ..numeric.frequency import (
     natural_frequencies,
 )
 from ..values import to_exact
+from .branch import current_name
 from .derive import coefficients_of, output_weights, resolve_values, sources_of
 from .present import transfer_form
 from .result import SourceInfo
@@ -116,6 +117,11 @@ def noise(
     progress: Any = None,
 ) -> NoiseResult:
     """Build the :class:`NoiseResult` of ``circuit`` at ``output`` (see the module)."""
+    if current_name(output) is not None:
+        raise InvalidValueError(
+            f"noise at {output}: noise densities are in V/√Hz, so a branch current has "
+            "none yet; take the noise of the voltage across a resistor that carries it"
+        )
     check_topology(circuit, "s")
     t_kelvin = kelvin(temperature)
     fixed = resolve_values(circuit, values)
