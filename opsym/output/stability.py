@@ -29,8 +29,8 @@ __all__ = ["StabilitySection", "stability_table", "stability_warnings"]
 _INTRO = (
     "Loop gain T of each op-amp's loop: the return ratio at its controlled source, "
     "loading kept, every independent source zero; T > 0 at low frequency for negative "
-    "feedback. Phase margin 180° + ∠T at the crossover |T| = 1; gain margin −20·log10|T| "
-    "where ∠T = −180°; peaking of T/(1 + T); Q and f0 of the dominant closed-loop pole pair."
+    "feedback. Phase margin 180° + arg T at the crossover |T| = 1; gain margin −20·log10|T| "
+    "where arg T = −180°; peaking of T/(1 + T); Q and f0 of the dominant closed-loop pole pair."
 )
 
 

@@ -69,10 +69,11 @@ def test_threshold_from_the_file_and_round_trip():
     assert parse_design(dump_design(d)).response.phase_margin == 1
 
 
-def test_report_warns_and_notes_say_so(tmp_path):
+def test_report_warns_and_notes_say_so(tmp_path, pdflatex):
     (tmp_path / "stage.toml").write_text(_design(), encoding="utf-8")
     run = subprocess.run(
-        [sys.executable, "-m", "opsym", "report", "stage.toml", "--markdown", "note.md"],
+        [sys.executable, "-m", "opsym", "report", "stage.toml", "--markdown", "note.md",
+         "--latex", "note.tex", "--standalone"],
         capture_output=True, cwd=tmp_path, env={"PYTHONPATH": str(ROOT), "PATH": "/usr/bin"},
         timeout=120, text=True,
     )  # fmt: skip
@@ -81,3 +82,6 @@ def test_report_warns_and_notes_say_so(tmp_path):
     note = (tmp_path / "note.md").read_text(encoding="utf-8")
     assert "### Stability" in note and "**WARNING: op-amp U1: phase margin" in note
     assert "common practice" in note
+    tex = (tmp_path / "note.tex").read_text(encoding="utf-8")
+    assert r"\subsection*{Stability}" in tex and r"\textbf{WARNING: op-amp U1" in tex
+    pdflatex(tmp_path, "note.tex")  # the section's text is valid LaTeX
