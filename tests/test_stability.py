@@ -16,6 +16,7 @@ Sources (citations marked [mem] are from memory):
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 import numpy as np
@@ -24,7 +25,10 @@ import sympy as sp
 
 import opsym
 from opsym import InvalidValueError
+from opsym.equations.mna import INJECTIONS
+from opsym.model.nonideal import NonIdeal
 from opsym.model.symbols import LAPLACE as s
+from opsym.model.symbols import SymbolSpec, opamp_symbol
 
 
 def _stage(gain, *, follower=False, cin=None):
@@ -215,3 +219,49 @@ def test_bode_plot_of_the_loop_gain_draws_on_given_axes(tmp_path):
     assert np.interp(0.0, -y, x) == pytest.approx(1e6, rel=1e-3)
     marks = [ln.get_xdata()[0] for ln in axes[0].get_lines()[1:] if ln.get_linestyle() == ":"]
     assert marks and marks[0] == pytest.approx(1e6 * math.sqrt(1 - 1e-10), rel=1e-9)
+
+
+# An output resistance Ro inside the gain stage (symbol U1.Rx here, so as not to clash
+# with a built-in kind), a shape none of the three built-in injections gives:
+# Vout = A·(V+ − V−) − Ro·Iout, i.e. the op-amp's row gains the term (Ro/A)·I(U1).
+# Declared here alone (DEVELOPERS.md, "how to add … (b)").
+@dataclasses.dataclass(frozen=True)
+class _RowTerm:
+    ro: sp.Expr
+
+
+class _OutputResistance(NonIdeal):
+    kind = "rout-loop-test"
+    symbols = (
+        SymbolSpec("Rx", "Ω", r"R_{\mathrm{x}}", "output resistance Rx (test kind)",
+                   (("positive", True),), role="parameter"),
+    )  # fmt: skip
+    convention = "Ro is the output resistance inside the gain stage."
+
+    def sources(self, opamp):
+        return ()
+
+    def injections(self, opamp):
+        return (_RowTerm(opamp_symbol(opamp, "Rx")),)
+
+
+def _row_term(b, amp, row, inj):
+    b.add(row, b.index[f"I({amp.name})"], b.value(inj.ro) / b.value(amp.gain), amp.name)
+
+
+def test_loading_inside_the_opamp_row_is_kept(monkeypatch):
+    # Hand analysis: a follower with Ro inside and a load RL. Broken at the controlled
+    # source A·x, the output is the divider A·x·RL/(RL + Ro) and it is the − input:
+    # T = A·RL/(RL + Ro) (Franco ch. 8 [mem]: output resistance and load reduce β·A).
+    monkeypatch.setitem(INJECTIONS, _RowTerm, _row_term)
+    c = opsym.Circuit()
+    c.voltage_source("Vin", "p", "0")
+    c.resistor("RL", "out", "0")
+    c.opamp("U1", plus="p", minus="out", out="out", gain="finite", bias=False,
+            extra=[_OutputResistance()])  # fmt: skip
+    a, ro, rl = sp.symbols("U1.A U1.Rx RL", positive=True)
+    lg = opsym.loop_gain(c, "U1")
+    assert sp.simplify(lg.gain - a * rl / (rl + ro)) == 0
+    # and the closed loop agrees: Vout/Vin = T/(1 + T) for a follower
+    h = c.analyze("out").coefficient("Vin")
+    assert sp.simplify(h - lg.gain / (1 + lg.gain)) == 0

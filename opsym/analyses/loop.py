@@ -17,9 +17,13 @@ non-inverting stage ``β = R1/(R1 + R2)``; for a follower ``β = 1`` and
 half plane; :meth:`LoopGain.margins` gives the crossover, margins, peaking and
 the closed-loop poles (see :mod:`opsym.numeric.stability`).
 
-The break is made in the op-amp's own row of the nodal equations: the row
-``V(-) − V(+) + Vout/A = …`` becomes ``Vout = u`` and one adjoint solve
-gives ``(V+ − V-)/u`` (:mod:`opsym.equations.adjoint`).
+The break is made in the op-amp's own row of the nodal equations,
+``V(-) − V(+) + Vout/A + … = 0``: the controlling voltage ``V(+) − V(-)`` in it
+is replaced by the test variable ``x``, so the row reads ``Vout/A + … = x``
+(the output source is ``A·x``, whatever else the row holds), and one adjoint
+solve gives the returned ``(V+ − V-)/x``; ``T = −(V+ − V-)/x``, the same as
+``−A·(V+ − V-)/(A·x)``. For an ideal op-amp the row becomes ``Vout = x`` and
+gives ``β`` alone (:mod:`opsym.equations.adjoint`).
 
 Examples
 --------
@@ -159,17 +163,26 @@ def loop_gain(
     fixed = resolve_values(circuit, values)
     eqs = build_equations(circuit, fixed, domain=domain)
     row = eqs.index[f"I({amp.name})"]
-    rows = list(eqs.rows)
-    rows[row] = {eqs.index[f"V({amp.out})"]: sp.S.One}  # Vout = u: the source broken
-    broken = dataclasses.replace(eqs, rows=tuple(rows), sources={_TEST: {row: sp.S.One}})
-    weights: dict[int, sp.Expr] = {}
+    pins: dict[int, sp.Expr] = {}  # V(+) − V(−) as weights on the unknowns
     for node, w in ((amp.plus, sp.S.One), (amp.minus, sp.S.NegativeOne)):
         if node != GROUND:
             col = eqs.index[f"V({node})"]
-            weights[col] = weights.get(col, sp.S.Zero) + w
-    z = solve_adjoint(broken, {k: v for k, v in weights.items() if v != 0})
-    beta = sp.factor(sp.cancel(sp.together(-z[row])))
+            pins[col] = pins.get(col, sp.S.Zero) + w
+    pins = {k: v for k, v in pins.items() if v != 0}
     gain = None if amp.gain is None else amp.gain.xreplace(fixed)
     if domain == "dc" and gain is not None:
         gain = gain.xreplace({LAPLACE: sp.S.Zero})
+    if gain is None:  # a nullor: the output imposed, Vout = x, gives β = −(V+ − V−)/x
+        broken_row = {eqs.index[f"V({amp.out})"]: sp.S.One}
+    else:  # the row V(−) − V(+) + Vout/A + … = 0 with V(+) − V(−) replaced by x
+        broken_row = dict(eqs.rows[row])
+        for col, w in pins.items():
+            broken_row[col] = broken_row.get(col, sp.S.Zero) + w
+        broken_row = {k: v for k, v in broken_row.items() if v != 0}
+    rows = list(eqs.rows)
+    rows[row] = broken_row
+    broken = dataclasses.replace(eqs, rows=tuple(rows), sources={_TEST: {row: sp.S.One}})
+    returned = solve_adjoint(broken, pins)[row]  # (V(+) − V(−))/x
+    loop = sp.cancel(sp.together(-returned))
+    beta = sp.factor(loop if gain is None else sp.cancel(loop / gain))
     return LoopGain(circuit, amp.name, gain, beta, fixed, domain)
