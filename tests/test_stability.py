@@ -265,3 +265,40 @@ def test_loading_inside_the_opamp_row_is_kept(monkeypatch):
     # and the closed loop agrees: Vout/Vin = T/(1 + T) for a follower
     h = c.analyze("out").coefficient("Vin")
     assert sp.simplify(h - lg.gain / (1 + lg.gain)) == 0
+
+
+def test_phase_followed_through_a_sharp_double_resonance():
+    # T = T0/(1 + s/ω1) · 1/(1 + s/(Q·ω0) + (s/ω0)²)², Q = 10⁴: the phase falls 360°
+    # within about f0/Q, far less than one grid step (the pole at f1 sets the grid, so
+    # f0 is not on it). By hand, ∠T = −atan(f/f1) − 2·atan2(x/Q, 1 − x²), x = f/f0,
+    # each atan2 continuous in (0°, 180°): above f0 the phase is below −360°, and the
+    # phase margin at the upper crossover is negative — not the ≈ 0…180° a phase folded
+    # back by 360° would give.
+    f1, f0, q, t0 = 10, 12345.6, 10**4, 5
+    w1, w0 = 2 * sp.pi * f1, 2 * sp.pi * sp.nsimplify(f0)
+    gain = t0 / (1 + s / w1) / (1 + s / (q * w0) + (s / w0) ** 2) ** 2
+    m = opsym.loop_gain(_stage(gain, follower=True), "U1").margins()
+    x = m.crossover_hz / f0
+    phase = -math.degrees(math.atan(m.crossover_hz / f1)) - 2 * math.degrees(
+        math.atan2(x / q, 1 - x * x)
+    )
+    assert x > 1 and phase < -360
+    assert m.phase_margin_deg == pytest.approx(180 + phase, abs=1e-6)
+    mag = t0 / math.hypot(1, m.crossover_hz / f1) / abs(1 - x * x + 1j * x / q) ** 2
+    assert mag == pytest.approx(1, rel=1e-9)  # |T| = 1 there, by hand
+    assert m.below(45.0) and m.stable is False
+
+
+def test_loop_with_a_delay_uses_the_bisected_phase():
+    # T = T0·e^(−s·τ)/(1 + s/ωp): not a ratio of polynomials, so no closed-loop poles;
+    # by hand, fc = fp·√(T0² − 1) and PM = 180° − atan(fc/fp) − 360°·fc·τ (a delay's
+    # phase −ω·τ, any control text [mem]). The delay's phase falls without bound
+    # (−3600° at 1 MHz here), so the phase is followed by bisecting the grid's steps.
+    t0, fp, tau = 1000, 100.0, sp.Rational(1, 10**5)
+    gain = t0 * sp.exp(-s * tau) / (1 + s / (2 * sp.pi * fp))
+    m = opsym.loop_gain(_stage(gain, follower=True), "U1").margins()
+    fc = fp * math.sqrt(t0**2 - 1)
+    pm = 180 - math.degrees(math.atan(fc / fp)) - 360 * fc * float(tau)
+    assert m.crossover_hz == pytest.approx(fc, rel=1e-9)
+    assert m.phase_margin_deg == pytest.approx(pm, abs=1e-6)
+    assert m.stable is None and m.poles_hz == ()

@@ -96,12 +96,11 @@ def stability_margins(loop: sp.Expr, what: str = "loop gain") -> Margins:
     f = _grid(loop, at)
     t = at(f)
     mag = np.abs(t)
-    phase = np.degrees(np.unwrap(np.angle(t)))
+    phase_of = _phase_function(loop, at, f, t)
+    phase = phase_of(f)
 
     def phase_at(x: float) -> float:  # continuous phase at f = 10**x
-        exact = math.degrees(float(np.angle(at(np.array([10.0**x]))[0])))
-        near = float(np.interp(x, np.log10(f), phase))
-        return exact + 360.0 * round((near - exact) / 360.0)
+        return float(phase_of(np.array([10.0**x]))[0])
 
     def log_mag(x: float) -> float:
         return math.log(abs(complex(at(np.array([10.0**x]))[0])))
@@ -139,6 +138,76 @@ def _grid(loop: sp.Expr, at) -> np.ndarray:
         hi *= 10
     n = math.ceil(math.log10(hi / lo) * _PER_DECADE) + 1
     return np.logspace(math.log10(lo), math.log10(hi), n)
+
+
+def _phase_function(loop: sp.Expr, at, f: np.ndarray, t: np.ndarray):
+    """``f ↦ ∠T`` in degrees, followed continuously up from ``f[0]`` (in (−180°, 180°] there).
+
+    The phase of a ratio of polynomials is the sum of the phases of its roots'
+    factors ``j·ω − r``, each continuous in ω (a right-half-plane root's turns through
+    −180°); it puts each exact value on its right branch however sharp a resonance
+    is. Without the roots, steps over 45° on the grid ``f`` are bisected and the grid's
+    phase interpolated.
+    """
+    wrapped = np.degrees(np.angle(t))
+    near = _root_phase(loop)
+    if near is None:
+        xs = np.log10(f)
+        steps = [_phase_step(at, xs[i], xs[i + 1], wrapped[i], wrapped[i + 1], 60)
+                 for i in range(len(f) - 1)]  # fmt: skip
+        grid = np.concatenate(([wrapped[0]], wrapped[0] + np.cumsum(steps)))
+
+        def near(fs: np.ndarray) -> np.ndarray:
+            return np.interp(np.log10(fs), xs, grid)
+
+    shift = 360.0 * np.round((near(f[:1])[0] - wrapped[0]) / 360.0)
+
+    def phase(fs: np.ndarray) -> np.ndarray:
+        exact = np.degrees(np.angle(at(fs)))
+        return exact + 360.0 * np.round((near(fs) - shift - exact) / 360.0)
+
+    return phase
+
+
+def _root_phase(loop: sp.Expr):
+    """``f ↦ ∠T(j·2π·f)`` in degrees from the roots, continuous; ``None`` if unavailable."""
+    num, den = sp.fraction(sp.cancel(sp.together(loop)))
+    try:
+        polys = [sp.Poly(num, LAPLACE), sp.Poly(den, LAPLACE)]
+    except sp.PolynomialError:
+        return None
+    if any(p.degree() > _MAX_DEGREE or p.free_symbols - {LAPLACE} for p in polys):
+        return None
+    try:
+        zeros, poles = ([complex(r) for r in p.nroots(n=30, maxsteps=500)] if p.degree() > 0
+                        else [] for p in polys)  # fmt: skip
+        sign = float(polys[0].LC()) / float(polys[1].LC())
+    except (sp.polys.polyerrors.NoConvergence, TypeError, ValueError, ZeroDivisionError):
+        return None
+
+    def factor(w: np.ndarray, r: complex) -> np.ndarray:
+        theta = np.degrees(np.arctan2(w - r.imag, -r.real))
+        return np.where(theta > 0, theta - 360.0, theta) if r.real > 0 else theta
+
+    def phase(f: np.ndarray) -> np.ndarray:
+        w = 2 * math.pi * np.asarray(f, dtype=float)
+        total = np.full(w.shape, 180.0 if sign < 0 else 0.0)
+        for r in zeros:
+            total += factor(w, r)
+        for r in poles:
+            total -= factor(w, r)
+        return total
+
+    return phase
+
+
+def _phase_step(at, x0: float, x1: float, p0: float, p1: float, depth: int) -> float:
+    step = (p1 - p0 + 180.0) % 360.0 - 180.0
+    if abs(step) <= 45.0 or depth == 0 or not (math.isfinite(p0) and math.isfinite(p1)):
+        return step
+    xm = 0.5 * (x0 + x1)
+    pm = math.degrees(float(np.angle(at(np.array([10.0**xm]))[0])))
+    return _phase_step(at, x0, xm, p0, pm, depth - 1) + _phase_step(at, xm, x1, pm, p1, depth - 1)
 
 
 def _sign_changes(y: np.ndarray) -> list[int]:
