@@ -18,7 +18,9 @@ Examples
 <class 'opsym.model.circuit.Circuit'>
 """
 
+from .analyses.loop import LoopGain, loop_gain
 from .analyses.noise import NoiseResult
+from .analyses.ports import PortImpedance, input_impedance, output_impedance
 from .analyses.result import Result, SourceInfo
 from .errors import (
     ArgumentTypeError,
@@ -68,6 +70,7 @@ from .numeric import (
     preferred_value,
     resistor_parameters,
 )
+from .numeric.stability import Margins
 from .output import FrequencySection, NoiseSection, design_note
 from .output.latex import transfer_latex
 from .output.noise import noise_latex
@@ -102,6 +105,8 @@ __all__ = [
     "FrequencySection",
     "InputOffset",
     "InvalidValueError",
+    "LoopGain",
+    "Margins",
     "MissingDependencyError",
     "NoFeedbackError",
     "NoSolutionError",
@@ -113,6 +118,7 @@ __all__ = [
     "OpsymError",
     "PinAdmittance",
     "PinCurrent",
+    "PortImpedance",
     "ResistorParams",
     "Result",
     "SeriesVoltage",
@@ -132,10 +138,13 @@ __all__ = [
     "dump_design",
     "error_budget",
     "format_si",
+    "input_impedance",
     "load_design",
+    "loop_gain",
     "monte_carlo",
     "noise_latex",
     "opamp_parameters",
+    "output_impedance",
     "parse_design",
     "parse_quantity",
     "parse_value",

@@ -136,6 +136,10 @@ CALLS: dict[str, Callable[[Any], Any]] = {
     "read_netlist output": lambda x: opsym.read_netlist("t\nR1 out 0 1k\n.end\n", output=x),
     "write_netlist": lambda x: opsym.write_netlist(x),
     "write_netlist values": lambda x: opsym.write_netlist(_stage(), x),
+    "loop_gain": lambda x: opsym.loop_gain(_stage("s"), x),
+    "loop_gain values": lambda x: opsym.loop_gain(_stage("s"), "U1", x),
+    "output_impedance": lambda x: opsym.output_impedance(_stage(), x),
+    "input_impedance": lambda x: opsym.input_impedance(_stage(), x),
 }
 
 
