@@ -36,7 +36,7 @@ from typing import Any
 
 import sympy as sp
 
-from ..model.nonideal import SinglePole
+from ..model.nonideal import MultiPole, SinglePole
 from ..model.symbols import SYMBOLS
 from ..numeric.units import format_si, parse_quantity
 
@@ -101,6 +101,13 @@ def parameter_text(params: Any, grade: str = "max", omit: frozenset[str] = froze
     return f"parameter set {params.name!r} (grade {grade}, at 25 °C): " + ", ".join(parts)
 
 
+def _poles(amp: Any) -> int:
+    """How many poles ``amp``'s gain has when it is the multi-pole model; else 0."""
+    names = {s.name for s in amp.gain.free_symbols}
+    poles = 1 + sum(1 for n in names if n.startswith(f"{amp.name}.f"))
+    return poles if amp.gain == MultiPole(poles).gain(amp.name) else 0
+
+
 def _opamp_text(amp: Any, given: Mapping[str, Any]) -> str:
     """The gain model, the error-source kinds and the op-amp's given parameters."""
 
@@ -108,6 +115,9 @@ def _opamp_text(amp: Any, given: Mapping[str, Any]) -> str:
         gain = "ideal (nullor)"
     elif sp.simplify(amp.gain - SinglePole().gain(amp.name)) == 0:
         gain = "single-pole open-loop gain A0/(1 + s·A0/(2π·GBW))"
+    elif (poles := _poles(amp)) > 1:
+        further = "".join(f"(1 + s/(2π·f{k}))" for k in range(2, poles + 1))
+        gain = f"{poles}-pole open-loop gain A0/((1 + s·A0/(2π·GBW)){further})"
     elif amp.gain.is_number:
         gain = f"open-loop gain {float(amp.gain):g} V/V"
     else:
