@@ -13,10 +13,13 @@ from __future__ import annotations
 
 import math
 
+import circuits
 import circuits_ac
+import nodal
 import nodal_ac
 import pytest
 import sympy as sp
+from compare import evaluate
 from drawing import DrawPicker, example_settings
 from hypothesis import assume, event, given
 from hypothesis import strategies as st
@@ -395,3 +398,38 @@ def test_random_networks_with_the_new_kinds_match_the_nodal_reference(case, f):
             else:
                 got = complex(res.coefficient(source))
             assert abs(got - want) <= 1e-9 * abs(want) + 1e-12 * scale, (domain, source, got, want)
+
+
+@st.composite
+def dc_networks_with_resistances(draw):
+    pick = DrawPicker(draw)
+    desc, output, symbolic = circuits.random_circuit(pick, max_opamps=2)
+    out = []
+    for it in desc:
+        if it[0] == "OA":
+            extras = {k: pick.choice(v) for k, v in
+                      (("Ro", (10.0, 100.0, 2e3)), ("Rid", (1e4, 1e6, 1e9)),
+                       ("Ricm", (1e5, 1e9))) if pick.coin(0.5)}  # fmt: skip
+            it = (*it[:9], extras)
+        out.append(it)
+    return out, output, symbolic
+
+
+@example_settings(60)
+@given(dc_networks_with_resistances())
+def test_random_dc_networks_with_ro_rid_ricm_match_the_dc_reference(case):
+    """Every DC coefficient against ``tests/reference/nodal.py`` (exact rationals), where
+    Ro, Rid and Ricm are plain resistors around an internal node [derived: KCL]."""
+    desc, output, symbolic = case
+    try:
+        ref = nodal.coefficients_with_scale(desc, output, exact=True)
+    except nodal.ReferenceSingularError:
+        ref = None
+    assume(ref is not None)
+    c = nodal.to_circuit(desc, symbolic)
+    values = nodal.numeric_values(c, desc, symbolic)
+    res = c.analyze(output)
+    assert {x.name for x in res.terms} == set(ref)
+    for name, (want, scale) in ref.items():
+        got = evaluate(res.coefficient(name), values)
+        assert abs(got - want) <= 1e-9 * abs(want) + 1e-12 * scale, (name, got, want)
