@@ -198,8 +198,8 @@ class Circuit:
                 a = _positive_value(gain, name + ".A", "op-amp gain", "ratio")
             except ValueSyntaxError as err:
                 raise InvalidValueError(
-                    f"op-amp {name}: gain {gain!r} is not 'ideal', 'finite', 'pole', 'pole2'… "
-                    "or a number "
+                    f"op-amp {name}: gain {gain!r} is not 'ideal', 'finite', 'pole' or a number "
+                    "('pole2', 'pole3'… for more poles) "
                     f"({err})"
                 ) from None
         wanted = [("offset", offset), ("bias", bias), ("cmrr", cmrr), ("psrr", psrr)]
