@@ -38,6 +38,7 @@ import sympy as sp
 
 from ..model.nonideal import MultiPole, SinglePole
 from ..model.symbols import SYMBOLS
+from ..numeric.params import registered_fields
 from ..numeric.units import format_si, parse_quantity
 
 __all__ = ["element_lines", "parameter_text"]
@@ -89,7 +90,7 @@ def parameter_text(params: Any, grade: str = "max", omit: frozenset[str] = froze
     for stem in sorted({key.rpartition("_")[0] for key in params.extra}):
         v = params.value(stem, grade)
         spec = next((s for s in SYMBOLS.values() if s.datasheet == stem), None)
-        if v is not None and spec is not None:
+        if v is not None and spec is not None and spec.suffix not in omit:
             parts.append(f"{spec.suffix} {_quantity(v, spec.unit)}")
     if params.rail_neg is not None:
         rails = (format_si(params.rail_neg, "V"), format_si(params.rail_pos, "V"))
@@ -134,10 +135,15 @@ def _opamp_text(amp: Any, given: Mapping[str, Any]) -> str:
 
 
 def _unused(amp: Any) -> frozenset[str]:
-    """The set values an op-amp's gain model does not use: A, GBW (A0 is shown as A)."""
+    """The set values an op-amp does not use: A, GBW (A0 is shown as A) without its gain
+    model, and the registered kinds' own fields (Ro, Rid, f2, ...) it does not carry."""
     used = {s.name.partition(".")[2] for s in getattr(amp.gain, "free_symbols", ())
             if s.name.startswith(amp.name + ".")}  # fmt: skip
-    out = set()
+    for kind in amp.nonideals:
+        used |= {s.name.partition(".")[2]
+                 for s in (*kind.sources(amp.name), *kind.parameters(amp.name))}  # fmt: skip
+    stems = {key.rpartition("_")[0] for key in registered_fields()}
+    out = {s.suffix for s in SYMBOLS.values() if s.datasheet in stems and s.suffix not in used}
     if not used & {"A", "A0"}:
         out.add("A")
     if "GBW" not in used:
