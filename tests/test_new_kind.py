@@ -128,41 +128,45 @@ def test_the_design_file_study_budgets_it_and_the_note_shows_it():
     assert "I_{\\mathrm{LK},\\mathrm{U1}}" in latex
 
 
-class InputResistance(NonIdeal):
-    """Differential input resistance ``Rid`` between the pins: an impedance, not a source."""
+class ClampResistance(NonIdeal):
+    """Leakage resistance ``Rlk`` of an input clamp, − pin to ground: an impedance, not a source.
 
-    kind = "rid"
+    (The differential input resistance ``Rid`` is built in, ``opsym.InputResistance``;
+    with the + pin grounded, as below, ``Rlk`` loads the summing node the same way.)
+    """
+
+    kind = "clamp-r"
     symbols = (
-        SymbolSpec("Rid", "Ω", r"R_{\mathrm{id}}", "differential input resistance Rid",
-                   (("positive", True),), datasheet="rid", role="parameter"),
+        SymbolSpec("Rlk", "Ω", r"R_{\mathrm{LK}}", "clamp leakage resistance Rlk",
+                   (("positive", True),), datasheet="rlk", role="parameter"),
     )  # fmt: skip
-    convention = "Rid is the differential input resistance, between the + and − pins."
+    convention = "Rlk is the input clamp's leakage resistance, from the − pin to ground."
 
     def sources(self, opamp):
         return ()
 
     def injections(self, opamp):
-        return (PinAdmittance("plus", "minus", 1 / opamp_symbol(opamp, "Rid")),)
+        return (PinAdmittance("minus", "ground", 1 / opamp_symbol(opamp, "Rlk")),)
 
 
 def test_an_impedance_kind_changes_the_gain_as_the_noise_gain_says():
-    """Vout/Vin = −(R2/R1)/(1 + (1 + R2/R1 + R2/Rid)/A): Rid loads the summing node, so
-    it enters the noise gain 1/β = 1 + R2/R1 + R2/Rid [derived, KCL at the − pin with
+    """Vout/Vin = −(R2/R1)/(1 + (1 + R2/R1 + R2/Rlk)/A): Rlk loads the summing node, so
+    it enters the noise gain 1/β = 1 + R2/R1 + R2/Rlk [derived, KCL at the − pin with
     Vout = −A·V−; the form of Franco, *Design with Operational Amplifiers*, ch. 1, mem]."""
-    c = opsym.Circuit("inverting stage, finite A and Rid")
+    c = opsym.Circuit("inverting stage, finite A and Rlk")
     c.voltage_source("Vin", "in", "0")
     c.resistor("R1", "in", "n")
     c.resistor("R2", "n", "out")
     c.opamp("U1", plus="0", minus="n", out="out", gain="finite", offset=False, bias=False,
-            noise=False, extra=[InputResistance()])  # fmt: skip
+            noise=False, extra=[ClampResistance()])  # fmt: skip
     res = c.analyze("out")
-    r1, r2, a, rid = (c.symbol(n) for n in ("R1", "R2", "U1.A", "U1.Rid"))
+    r1, r2, a, rid = (c.symbol(n) for n in ("R1", "R2", "U1.A", "U1.Rlk"))
     want = -(r2 / r1) / (1 + (1 + r2 / r1 + r2 / rid) / a)
     assert sp.simplify(res.coefficient("Vin") - want) == 0
     assert sp.simplify(res.ideal().coefficient("Vin") + r2 / r1) == 0  # no effect at A = ∞
     params = opsym.OpAmpParams.from_mapping(
-        {"name": "mine", "a_min": "100k", "a_typ": "1M", "rid_max": "10k", "rid_typ": "1M"})
+        {"name": "mine", "a_min": "100k", "a_typ": "1M", "rlk_max": "10k", "rlk_typ": "1M"})
     b = opsym.error_budget(res, {"R1": "1k", "R2": "100k", "Vin": "10m"}, {"U1": params})
-    ideal, noise_gain = -100.0, 1 + 100 + 100e3 / 10e3  # 1/β with Rid = 10 kΩ
+    ideal, noise_gain = -100.0, 1 + 100 + 100e3 / 10e3  # 1/β with Rlk = 10 kΩ
     assert b.row("gain: open-loop").output == pytest.approx(
         0.01 * ideal * (1 / (1 + noise_gain / 1e5) - 1), rel=1e-9)

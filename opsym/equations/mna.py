@@ -9,7 +9,10 @@ Brennan, IEEE Trans. Circuits Syst. CAS-22(6), 1975). Rows are:
 * one row per voltage source — ``V(plus) - V(minus) = value``;
 * one row per op-amp — ``V(minus) - V(plus) + Vout/A = Σ weight·source``: the
   series input sources (Vos, Vcm/CMRR, dVs/PSRR) on the right-hand side. For the
-  ideal op-amp (a nullor) ``1/A = 0``; the output current is the norator.
+  ideal op-amp (a nullor) ``1/A = 0``; the output current is the norator. An
+  output impedance ``Zo`` (``Ro``) in series with the gain stage makes the
+  controlled source ``Vout + Zo·I`` (``I`` the current it drives into ``out``), so
+  the row gains ``+Zo·I/A`` in the op-amp's own current column.
 
 Every independent source appears only on the right-hand side, with one column
 of stamps each, so one adjoint solve gives all their coefficients at once.
@@ -48,7 +51,7 @@ import sympy as sp
 from ..errors import InvalidValueError
 from ..model.circuit import GROUND, Circuit
 from ..model.elements import Capacitor, CurrentSource, Inductor, OpAmp, Resistor, VoltageSource
-from ..model.nonideal import PinAdmittance, PinCurrent, SeriesVoltage
+from ..model.nonideal import OutputImpedance, PinAdmittance, PinCurrent, SeriesVoltage
 from ..model.symbols import LAPLACE, source_symbol, thermal_symbol
 
 __all__ = ["DOMAINS", "INJECTIONS", "STAMPS", "NodalEquations", "build_equations"]
@@ -266,6 +269,13 @@ def _pin_admittance(b: _Builder, amp: OpAmp, row: int, inj: PinAdmittance) -> No
     b.admittance(pins[inj.a], pins[inj.b], b.value(inj.admittance), amp.name)
 
 
+def _output_impedance(b: _Builder, amp: OpAmp, row: int, inj: OutputImpedance) -> None:
+    # A·(V+ − V- + Σ) = Vout + Zo·I  ⇒  row += Zo·I/A; nothing for a nullor (1/A = 0)
+    if amp.gain is not None:
+        col = b.index[f"I({amp.name})"]
+        b.add(row, col, b.value(inj.impedance) / b.value(amp.gain), amp.name)
+
+
 #: The stamp of each element class: a new element adds its class and one function here.
 STAMPS: dict[type, Callable[[_Builder, Any], None]] = {
     Resistor: _resistor,
@@ -275,9 +285,11 @@ STAMPS: dict[type, Callable[[_Builder, Any], None]] = {
     VoltageSource: _voltage_source,
     OpAmp: _opamp,
 }
-#: The stamp of each injection shape of a non-ideality (in series with +, into a pin).
+#: The stamp of each injection shape of a non-ideality (in series with +, into a pin,
+#: between pins, in series with the output).
 INJECTIONS: dict[type, Callable[[_Builder, OpAmp, int, Any], None]] = {
     SeriesVoltage: _series_voltage,
     PinCurrent: _pin_current,
     PinAdmittance: _pin_admittance,
+    OutputImpedance: _output_impedance,
 }

@@ -55,7 +55,7 @@ from ..model.elements import (
     VoltageSource,
 )
 from ..model.limits import expect_text
-from ..model.nonideal import KINDS, SinglePole
+from ..model.nonideal import KINDS, SinglePole, gain_model
 from ..model.symbols import (
     OPAMP_PARAMETERS,
     SYMBOLS,
@@ -295,7 +295,7 @@ class _Reader(SettingsReader):
         gain: Any = "ideal"
         if t.has("gain"):
             raw = t.raw("gain")
-            if raw in ("ideal", "finite", "pole"):
+            if raw in ("ideal", "finite") or (isinstance(raw, str) and gain_model(raw)):
                 gain = raw
             else:
                 gain = t.value_of(raw, "gain", unit="ratio", names=self.names)
@@ -314,6 +314,10 @@ class _Reader(SettingsReader):
         if t.has("parameters"):
             self.opamps[name] = self.parameter_set(name, t)
         flagged = ("offset", "bias", "cmrr", "psrr")  # Circuit.opamp's own switches
+        for kind in include:
+            needs = KINDS[kind].requires
+            if needs is not None and needs not in include:
+                raise t.error("include", f"{kind!r} builds on {needs!r}; add \"{needs}\" too")
         circuit.opamp(
             name, plus=plus, minus=minus, out=out, gain=gain, offset="offset" in include,
             bias="bias" in include, cmrr="cmrr" in include, psrr="psrr" in include,
@@ -323,7 +327,9 @@ class _Reader(SettingsReader):
     def opamp_values(self, name: str, t: Table, gain: Any, include: list[str]) -> None:
         """The op-amp's own numbers (``Vcm``, ``A0``, ``en``, ...: see ``opamp_values``)."""
         own = set(SinglePole().parameters(name))
-        pole = gain == "pole" or (isinstance(gain, sp.Expr) and bool(gain.free_symbols & own))
+        model = gain_model(gain) if isinstance(gain, str) else None
+        pole = model is not None or (isinstance(gain, sp.Expr) and bool(gain.free_symbols & own))
+        poles = model.poles if model is not None else 1
         for what, (unit, needs) in opamp_values().items():
             value = t.take_value(what, unit=unit)
             if value is None:
@@ -341,6 +347,15 @@ class _Reader(SettingsReader):
                     raise t.error(
                         what, f"{what} belongs to the single-pole gain model; set "
                         "gain = \"pole\" or remove it"
+                    )  # fmt: skip
+            elif needs.startswith("pole"):  # a further pole f2, f3, ...
+                k = int(what[1:])
+                if not value.is_positive:
+                    raise t.error(what, f"{what} = {value} must be positive; give e.g. '20 MHz'")
+                if poles < k:
+                    raise t.error(
+                        what, f"{what} is pole {k} of the open-loop gain; set gain = "
+                        f"\"pole{k}\" (or more poles) or remove it"
                     )  # fmt: skip
             else:
                 if value.is_negative:

@@ -57,7 +57,7 @@ from ..model.elements import (
     Resistor,
     VoltageSource,
 )
-from ..model.nonideal import KINDS, SinglePole
+from ..model.nonideal import KINDS, MultiPole
 from ..model.symbols import component_symbol, opamp_symbol, source_symbol
 from ..numeric.params import (
     OPAMP_SETS,
@@ -211,8 +211,8 @@ class _Writer:
         if amp.gain is not None:
             if amp.gain == opamp_symbol(amp.name, "A"):
                 self.key("gain", "finite")
-            elif amp.gain == SinglePole().gain(amp.name):
-                self.key("gain", "pole")
+            elif (model := _gain_model(amp)) is not None:
+                self.key("gain", model.kind)
             else:
                 self.key("gain", _text(amp.gain, f"{amp.name} gain"))
         kinds = []
@@ -419,3 +419,11 @@ def _toml(value: Any) -> str:
 
 def _inline(body: Mapping[str, Any]) -> str:
     return "{ " + ", ".join(f"{_key(k)} = {_toml(v)}" for k, v in body.items()) + " }"
+
+
+def _gain_model(amp: OpAmp) -> MultiPole | None:
+    """The named gain model (``pole``, ``pole2``, …) whose gain ``amp`` has, if any."""
+    names = {s.name for s in amp.gain.free_symbols} if amp.gain is not None else set()
+    poles = 1 + sum(1 for n in names if n.startswith(f"{amp.name}.f"))
+    model = MultiPole(poles)
+    return model if amp.gain == model.gain(amp.name) else None

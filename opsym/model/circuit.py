@@ -46,7 +46,7 @@ from .elements import (
 )
 from .limits import MAX_ELEMENTS, exact_value, expect_text, shown
 from .naming import check_names
-from .nonideal import KINDS, NonIdeal, SinglePole
+from .nonideal import KINDS, MultiPole, NonIdeal, gain_model
 from .symbols import LAPLACE, OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
 
 if TYPE_CHECKING:
@@ -145,7 +145,8 @@ class Circuit:
         cmrr: bool = False,
         psrr: bool = False,
         noise: bool = True,
-        extra: Iterable[NonIdeal] = (),
+        extra: Iterable[NonIdeal | str] = (),
+        poles: int | None = None,
     ) -> None:
         """Add an op-amp.
 
@@ -155,11 +156,13 @@ class Circuit:
             Element name, e.g. ``"U1"``; its symbols are ``U1.Vos`` and so on.
         plus, minus, out : str
             Nodes of the non-inverting input, inverting input and output.
-        gain : "ideal", "finite", "pole", number or expression
+        gain : "ideal", "finite", "pole", "pole2", …, number or expression
             ``"ideal"``: a nullor. ``"finite"``: open-loop gain symbol ``U1.A``.
             ``"pole"``: the single-pole model ``U1.A0/(1 + s·U1.A0/(2π·U1.GBW))``
-            (:class:`~opsym.SinglePole`; ``U1.A0`` at DC). Anything else: that
-            open-loop gain, which may contain the Laplace variable ``s``.
+            (:class:`~opsym.SinglePole`; ``U1.A0`` at DC). ``"pole2"``,
+            ``"pole3"``…: that many poles, the further ones at ``U1.f2``,
+            ``U1.f3``… hertz (:class:`~opsym.model.nonideal.MultiPole`). Anything
+            else: that open-loop gain, which may contain the Laplace variable ``s``.
         offset, bias, cmrr, psrr : bool
             Which error sources it carries: ``Vos``; ``Ib+``/``Ib-``;
             ``Vcm/CMRR``; ``dVs/PSRR``.
@@ -167,8 +170,19 @@ class Circuit:
             Whether it carries voltage noise ``U1.en`` and current noise
             ``U1.in+``/``U1.in-``. They enter only :meth:`noise`, never the DC
             error terms.
-        extra : iterable of NonIdeal
-            Further non-ideal sources of your own kinds.
+        extra : iterable of NonIdeal or str
+            Further non-idealities: instances of your own kinds, or the keys of
+            registered ones (``["ro", "rid", "cid", "ccm", "cmrr-pole"]``).
+        poles : int, optional
+            The multi-pole gain model with this many poles (``poles=2`` is
+            ``gain="pole2"``); leave ``gain`` at its default.
+
+        Examples
+        --------
+        >>> c = Circuit()
+        >>> c.opamp("U1", "p", "out", "out", poles=2, noise=False, extra=["ro"])
+        >>> sorted(str(x) for x in c.free_symbols_by_name().values())
+        ['U1.A0', 'U1.GBW', 'U1.Ro', 'U1.f2']
         """
         name = self._new_name(name)
         nodes = self._nodes(name, plus, minus, out)
@@ -176,12 +190,15 @@ class Circuit:
             raise InvalidValueError(
                 f"op-amp {name}: output is tied to ground; give the output its own node"
             )
+        if poles is not None:
+            gain = self._poles(name, gain, poles)
+        model = gain_model(gain) if isinstance(gain, str) else None
         if isinstance(gain, str) and gain == "ideal":
             a = None
         elif isinstance(gain, str) and gain == "finite":
             a = opamp_symbol(name, "A")
-        elif isinstance(gain, str) and gain == "pole":
-            a = SinglePole().gain(name)
+        elif model is not None:
+            a = model.gain(name)
         elif gain is None:
             raise InvalidValueError(
                 f"op-amp {name}: gain=None is ambiguous; write gain='ideal' or gain='finite'"
@@ -192,6 +209,7 @@ class Circuit:
             except ValueSyntaxError as err:
                 raise InvalidValueError(
                     f"op-amp {name}: gain {gain!r} is not 'ideal', 'finite', 'pole' or a number "
+                    "('pole2', 'pole3'… for more poles) "
                     f"({err})"
                 ) from None
         wanted = [("offset", offset), ("bias", bias), ("cmrr", cmrr), ("psrr", psrr)]
@@ -211,14 +229,33 @@ class Circuit:
                     f"op-amp {name}: {flag}= expects True or False, not {shown(on)}"
                 )
         for item in extra:
-            if not isinstance(item, NonIdeal):
-                raise InvalidValueError(
-                    f"op-amp {name}: extra={item!r} is not a NonIdeal; pass NonIdeal instances"
-                )
+            item = _kind(name, item)
             if item not in kinds:
                 kinds.append(item)
+        have = {k.kind for k in kinds}
+        for k in kinds:
+            if k.requires is not None and k.requires not in have:
+                raise InvalidValueError(
+                    f"op-amp {name}: {k.kind!r} builds on {k.requires!r}, which it does not "
+                    f"carry; add {k.requires}=True (files: \"{k.requires}\" in include)"
+                )
         plus_node, minus_node, out_node = nodes
         self._add(OpAmp(name, plus_node, minus_node, out_node, gain=a, nonideals=tuple(kinds)))
+
+    @staticmethod
+    def _poles(name: str, gain: Any, poles: Any) -> str:
+        """``gain=`` text for ``poles=n``; ``gain`` must be left at its default."""
+        if isinstance(gain, str) and gain in ("ideal", "pole", f"pole{poles}"):
+            try:
+                return MultiPole(poles).kind
+            except ValueError:
+                pass
+            raise InvalidValueError(
+                f"op-amp {name}: poles={poles!r} must be a whole number >= 1, e.g. poles=2"
+            )
+        raise InvalidValueError(
+            f"op-amp {name}: give poles= or gain={gain!r}, not both (poles=2 is gain='pole2')"
+        )
 
     # -- reading -----------------------------------------------------------------
 
@@ -492,3 +529,15 @@ def _listing(names: Iterable[str]) -> str:
         return "none yet"
     shown = ", ".join(repr(n) for n in names[:12])
     return shown + (f" and {len(names) - 12} more" if len(names) > 12 else "")
+
+
+def _kind(opamp: str, item: Any) -> NonIdeal:
+    """A non-ideality from ``extra=``: an instance, or the key of a registered kind."""
+    if isinstance(item, NonIdeal):
+        return item
+    if isinstance(item, str) and item in KINDS:
+        return KINDS[item]()
+    raise InvalidValueError(
+        f"op-amp {opamp}: extra={item!r} is not a NonIdeal or the key of one; "
+        f"pass instances or any of {', '.join(KINDS)}"
+    )

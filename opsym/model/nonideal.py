@@ -31,6 +31,7 @@ Examples
 
 from __future__ import annotations
 
+import re
 from abc import ABC, abstractmethod
 from dataclasses import dataclass
 from typing import ClassVar
@@ -46,8 +47,10 @@ __all__ = [
     "CommonModeRejection",
     "CurrentNoise",
     "InputOffset",
+    "MultiPole",
     "NoiseSpectrum",
     "NonIdeal",
+    "OutputImpedance",
     "PinAdmittance",
     "PinCurrent",
     "SeriesVoltage",
@@ -91,6 +94,20 @@ class PinAdmittance:
         for pin in (self.a, self.b):
             if pin not in ("plus", "minus", "out", "ground"):
                 raise ValueError(f"PinAdmittance: {pin!r} is not plus, minus, out or ground")
+
+
+@dataclass(frozen=True)
+class OutputImpedance:
+    """An impedance ``impedance`` (ohms) in series with the controlled source's output.
+
+    The op-amp's output pin is then ``Vout = A·(V+ − V-) − Zo·I_out``, ``I_out``
+    the current the op-amp drives *into* its output node. Divided by ``A``, the
+    op-amp row gains ``+Zo·I_out/A``: with an ideal op-amp (``1/A = 0``) it has
+    no effect, as ``Zo/(1 + A) → 0``. An open-loop output resistance ``Ro`` is
+    ``OutputImpedance(Ro)``.
+    """
+
+    impedance: sp.Expr
 
 
 @dataclass(frozen=True)
@@ -142,6 +159,8 @@ class NonIdeal(ABC):
     symbols: ClassVar[tuple[SymbolSpec, ...]] = ()
     #: Its sign convention in one sentence, for notes and docs.
     convention: ClassVar[str] = ""
+    #: The kind it builds on, which the op-amp must carry too (``cmrr-pole`` on ``cmrr``).
+    requires: ClassVar[str | None] = None
 
     def __init_subclass__(cls, **kwargs: object) -> None:
         super().__init_subclass__(**kwargs)
@@ -161,7 +180,9 @@ class NonIdeal(ABC):
         """Independent source symbols this non-ideality adds to op-amp ``opamp``."""
 
     @abstractmethod
-    def injections(self, opamp: str) -> tuple[SeriesVoltage | PinCurrent | PinAdmittance, ...]:
+    def injections(
+        self, opamp: str
+    ) -> tuple[SeriesVoltage | PinCurrent | PinAdmittance | OutputImpedance, ...]:
         """Where each source acts on op-amp ``opamp``."""
 
     def parameters(self, opamp: str) -> tuple[sp.Symbol, ...]:
@@ -365,15 +386,84 @@ class SinglePole:
         return "SinglePole()"
 
 
+def _further_pole(k: int) -> SymbolSpec:
+    """The spec of ``f<k>``, the k-th open-loop pole (k ≥ 2) of :class:`MultiPole`, Hz."""
+    return SymbolSpec(f"f{k}", "Hz", rf"f_{{{k}}}", f"open-loop pole {k} f{k}", _POSITIVE,
+                      datasheet=f"f{k}", file_value=True, role="parameter")  # fmt: skip
+
+
+#: The first further poles are known everywhere (files, parameter sets) from the start.
+register_symbols(*(_further_pole(k) for k in range(2, 5)))
+
+
+class MultiPole:
+    """Op-amp dynamics: the single pole and ``poles − 1`` further poles.
+
+    ``A(s) = A0/((1 + s/ω1)(1 + s/ω2)…)`` with ``ω1 = 2π·GBW/A0`` (as in
+    :class:`SinglePole`) and ``ωk = 2π·fk`` for the further poles ``U1.f2``,
+    ``U1.f3``, … (hertz). As ``A0``, ``GBW`` and every ``fk`` grow without bound
+    it becomes the ideal op-amp; ``fk → ∞`` alone gives the single pole.
+    Declare it with ``Circuit.opamp(..., gain="pole2")`` or ``poles=2``.
+
+    Examples
+    --------
+    >>> MultiPole(2).parameters("U1")
+    (U1.A0, U1.GBW, U1.f2)
+    >>> MultiPole(2).gain("U1").subs(LAPLACE, 0)
+    U1.A0
+    """
+
+    def __init__(self, poles: int) -> None:
+        if isinstance(poles, bool) or not isinstance(poles, int) or poles < 1:
+            raise ValueError(f"MultiPole: poles={poles!r} must be a whole number >= 1")
+        self.poles = poles
+        register_symbols(*(_further_pole(k) for k in range(2, poles + 1)))
+
+    @property
+    def kind(self) -> str:
+        """``"pole"`` for one pole, ``"pole<n>"`` for ``n`` (the ``gain=`` text)."""
+        return "pole" if self.poles == 1 else f"pole{self.poles}"
+
+    def parameters(self, opamp: str) -> tuple[sp.Symbol, ...]:
+        """``A0``, ``GBW`` and the further poles ``f2``, ``f3``, … in hertz."""
+        further = (opamp_symbol(opamp, f"f{k}") for k in range(2, self.poles + 1))
+        return (*SinglePole().parameters(opamp), *further)
+
+    def gain(self, opamp: str) -> sp.Expr:
+        """The open-loop gain ``A(s)`` of op-amp ``opamp``."""
+        a = SinglePole().gain(opamp)
+        for fk in self.parameters(opamp)[2:]:
+            a = a / (1 + LAPLACE / (2 * sp.pi * fk))
+        return a
+
+    def __repr__(self) -> str:
+        return f"MultiPole({self.poles})"
+
+
+def gain_model(text: str) -> MultiPole | None:
+    """The gain model a ``gain=`` text names: ``"pole"``, ``"pole2"``, …; else ``None``.
+
+    Examples
+    --------
+    >>> gain_model("pole3"), gain_model("finite")
+    (MultiPole(3), None)
+    """
+    m = re.fullmatch(r"pole([1-9][0-9]?)?", text)
+    return MultiPole(int(m.group(1) or 1)) if m else None
+
+
 def kind_of(suffix: str) -> str | None:
     """The key of the kind, or gain model, that declares the op-amp symbol ``suffix``.
 
     Examples
     --------
-    >>> kind_of("Vcm"), kind_of("GBW"), kind_of("A"), kind_of("R1")
-    ('cmrr', 'pole', 'finite', None)
+    >>> kind_of("Vcm"), kind_of("GBW"), kind_of("A"), kind_of("f2"), kind_of("R1")
+    ('cmrr', 'pole', 'finite', 'pole2', None)
     """
     for key, kind in KINDS.items():
         if any(spec.suffix == suffix for spec in kind.symbols):
             return key
+    m = re.fullmatch(r"f([2-9]|[1-9][0-9])", suffix)
+    if m:
+        return f"pole{m.group(1)}"
     return {"A": "finite", "A0": SinglePole.kind, "GBW": SinglePole.kind}.get(suffix)

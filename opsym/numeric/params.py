@@ -518,12 +518,20 @@ class ResistorParams:
         return self.tolerance + self.tcr * abs(float(temperature) - REFERENCE_TEMPERATURE)
 
 
+def _impedances(**pairs: tuple[float, float]) -> dict[str, float]:
+    """``{"ro_typ": 60, "ro_max": 100, ...}`` from ``ro=(typical, worst case)``."""
+    grades = ("typ", "max")
+    return {f"{k}_{g}": v for k, both in pairs.items() for g, v in zip(grades, both, strict=True)}
+
+
 #: Invented generic op-amp sets (no real part): typical / limit values of the usual order.
 #: Supplies: ±15 V for the bipolar and JFET sets, a single 5 V for the CMOS ones (rail-to-rail
 #: output, inputs to the rails). Noise is typical only, as datasheets
 #: give it: FET and CMOS inputs have the shot noise
 #: of their leakage, white (fci = 0); a zero-drift part chops away its 1/f noise (fce = 0)
-#: but its switching adds current noise.
+#: but its switching adds current noise. Impedances and poles (``extra``) are typical and
+#: worst-case values (``_max`` is the worst case: the highest Ro, Cid, Ccm; the lowest Rid,
+#: Ricm, f2 and rejection corners).
 OPAMP_SETS: dict[str, OpAmpParams] = {
     p.name: p
     for p in (
@@ -536,6 +544,11 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             psrr_typ_db=120, psrr_min_db=110,
             gbw_typ=1e6, en_typ=10e-9, in_typ=0.1e-12, fce=5.0, fci=100.0,
             rail_neg=-15.0, rail_pos=15.0, swing_headroom=1.2, cm_headroom=1.5,
+            extra=_impedances(
+                ro=(60, 100), rid=(30e6, 10e6), ricm=(200e9, 50e9),
+                cid=(2e-12, 4e-12), ccm=(2e-12, 4e-12), f2=(4e6, 2.5e6),
+                fcmrr=(300, 100), fpsrr=(30, 10),
+            ),
         ),
         OpAmpParams(
             "generic general-purpose bipolar",
@@ -546,6 +559,11 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             psrr_typ_db=90, psrr_min_db=76,
             gbw_typ=1e6, en_typ=20e-9, in_typ=0.5e-12, fce=100.0, fci=300.0,
             rail_neg=-15.0, rail_pos=15.0, swing_headroom=1.5, cm_headroom=2.0,
+            extra=_impedances(
+                ro=(75, 150), rid=(2e6, 0.3e6), ricm=(10e9, 1e9),
+                cid=(1.5e-12, 3e-12), ccm=(3e-12, 6e-12), f2=(5e6, 3e6),
+                fcmrr=(1e3, 300), fpsrr=(100, 30),
+            ),
         ),
         OpAmpParams(
             "generic JFET",
@@ -556,6 +574,11 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             psrr_typ_db=100, psrr_min_db=80, bias_law=BiasLaw("doubling", 10.0),
             gbw_typ=4e6, en_typ=12e-9, in_typ=10e-15, fce=200.0, fci=0.0,
             rail_neg=-15.0, rail_pos=15.0, swing_headroom=1.5, cm_headroom=3.0,
+            extra=_impedances(
+                ro=(50, 100), rid=(1e12, 1e11), ricm=(1e12, 1e11),
+                cid=(3e-12, 6e-12), ccm=(3e-12, 6e-12), f2=(15e6, 10e6),
+                fcmrr=(2e3, 1e3), fpsrr=(500, 200),
+            ),
         ),
         OpAmpParams(
             "generic CMOS",
@@ -566,6 +589,11 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             psrr_typ_db=95, psrr_min_db=80, bias_law=BiasLaw("doubling", 10.0),
             gbw_typ=2e6, en_typ=20e-9, in_typ=2e-15, fce=1000.0, fci=0.0,
             rail_neg=0.0, rail_pos=5.0, swing_headroom=0.05, cm_headroom=0.0,
+            extra=_impedances(
+                ro=(100, 250), rid=(1e13, 1e12), ricm=(1e13, 1e12),
+                cid=(2e-12, 5e-12), ccm=(4e-12, 8e-12), f2=(6e6, 4e6),
+                fcmrr=(1e3, 300), fpsrr=(300, 100),
+            ),
         ),
         OpAmpParams(
             "generic zero-drift CMOS",
@@ -576,6 +604,11 @@ OPAMP_SETS: dict[str, OpAmpParams] = {
             psrr_typ_db=130, psrr_min_db=115, bias_law=BiasLaw("doubling", 10.0),
             gbw_typ=1.5e6, en_typ=30e-9, in_typ=100e-15, fce=0.0, fci=0.0,
             rail_neg=0.0, rail_pos=5.0, swing_headroom=0.05, cm_headroom=0.0,
+            extra=_impedances(
+                ro=(150, 300), rid=(1e11, 1e10), ricm=(1e12, 1e11),
+                cid=(8e-12, 15e-12), ccm=(8e-12, 15e-12), f2=(4e6, 3e6),
+                fcmrr=(100, 30), fpsrr=(50, 20),
+            ),
         ),
     )
 }  # fmt: skip

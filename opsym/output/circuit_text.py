@@ -36,8 +36,9 @@ from typing import Any
 
 import sympy as sp
 
-from ..model.nonideal import SinglePole
+from ..model.nonideal import MultiPole, SinglePole
 from ..model.symbols import SYMBOLS
+from ..numeric.params import registered_fields
 from ..numeric.units import format_si, parse_quantity
 
 __all__ = ["element_lines", "parameter_text"]
@@ -89,7 +90,7 @@ def parameter_text(params: Any, grade: str = "max", omit: frozenset[str] = froze
     for stem in sorted({key.rpartition("_")[0] for key in params.extra}):
         v = params.value(stem, grade)
         spec = next((s for s in SYMBOLS.values() if s.datasheet == stem), None)
-        if v is not None and spec is not None:
+        if v is not None and spec is not None and spec.suffix not in omit:
             parts.append(f"{spec.suffix} {_quantity(v, spec.unit)}")
     if params.rail_neg is not None:
         rails = (format_si(params.rail_neg, "V"), format_si(params.rail_pos, "V"))
@@ -101,6 +102,13 @@ def parameter_text(params: Any, grade: str = "max", omit: frozenset[str] = froze
     return f"parameter set {params.name!r} (grade {grade}, at 25 °C): " + ", ".join(parts)
 
 
+def _poles(amp: Any) -> int:
+    """How many poles ``amp``'s gain has when it is the multi-pole model; else 0."""
+    names = {s.name for s in amp.gain.free_symbols}
+    poles = 1 + sum(1 for n in names if n.startswith(f"{amp.name}.f"))
+    return poles if amp.gain == MultiPole(poles).gain(amp.name) else 0
+
+
 def _opamp_text(amp: Any, given: Mapping[str, Any]) -> str:
     """The gain model, the error-source kinds and the op-amp's given parameters."""
 
@@ -108,6 +116,9 @@ def _opamp_text(amp: Any, given: Mapping[str, Any]) -> str:
         gain = "ideal (nullor)"
     elif sp.simplify(amp.gain - SinglePole().gain(amp.name)) == 0:
         gain = "single-pole open-loop gain A0/(1 + s·A0/(2π·GBW))"
+    elif (poles := _poles(amp)) > 1:
+        further = "".join(f"(1 + s/(2π·f{k}))" for k in range(2, poles + 1))
+        gain = f"{poles}-pole open-loop gain A0/((1 + s·A0/(2π·GBW)){further})"
     elif amp.gain.is_number:
         gain = f"open-loop gain {float(amp.gain):g} V/V"
     else:
@@ -124,10 +135,15 @@ def _opamp_text(amp: Any, given: Mapping[str, Any]) -> str:
 
 
 def _unused(amp: Any) -> frozenset[str]:
-    """The set values an op-amp's gain model does not use: A, GBW (A0 is shown as A)."""
+    """The set values an op-amp does not use: A, GBW (A0 is shown as A) without its gain
+    model, and the registered kinds' own fields (Ro, Rid, f2, ...) it does not carry."""
     used = {s.name.partition(".")[2] for s in getattr(amp.gain, "free_symbols", ())
             if s.name.startswith(amp.name + ".")}  # fmt: skip
-    out = set()
+    for kind in amp.nonideals:
+        used |= {s.name.partition(".")[2]
+                 for s in (*kind.sources(amp.name), *kind.parameters(amp.name))}  # fmt: skip
+    stems = {key.rpartition("_")[0] for key in registered_fields()}
+    out = {s.suffix for s in SYMBOLS.values() if s.datasheet in stems and s.suffix not in used}
     if not used & {"A", "A0"}:
         out.add("A")
     if "GBW" not in used:

@@ -5,7 +5,8 @@ The plain description of :mod:`nodal`, extended:
 * ``("L", name, a, b, value)``: inductor, henries.
 * ``("OA", name, plus, minus, out, model, vos, ibp, ibm)`` where ``model`` is
   ``None`` (ideal), a number (a fixed open-loop gain), ``("finite", A)`` (the
-  symbol ``U.A``, valued ``A``) or ``("pole", A0, GBW)`` (single pole, GBW in Hz).
+  symbol ``U.A``, valued ``A``) or ``("pole", A0, GBW, f2, …)`` (single pole, GBW in
+  Hz, and any further poles in Hz: ``gain="pole<n>"``).
 
 :func:`to_circuit` builds the ``opsym.Circuit`` and the ``values`` mapping that
 fixes its symbolic parts; :func:`random_ac_circuit` grows a random valid DC
@@ -48,11 +49,15 @@ def to_circuit(
     ``values`` (names to floats) also carries each op-amp's model parameters
     (``U.A`` for ``("finite", A)``, ``U.A0`` and ``U.GBW`` for a pole) and, with
     ``opamp_options={"cmrr": True}``, ``U.CMRR``. Sources stay symbolic.
+    ``opamp_options`` may also carry ``extra`` (kind keys, as ``Circuit.opamp``
+    reads them) and ``params`` (``{"Ro": 50.0, ...}``: each op-amp's value of
+    those kinds' parameters).
     """
     import opsym
 
     symbolic = set(symbolic)
     options = dict(opamp_options or {})
+    params = dict(options.pop("params", {}))
     c = opsym.Circuit(title)
     values: dict[str, float] = {}
     add = {"R": c.resistor, "C": c.capacitor, "L": c.inductor}
@@ -76,12 +81,17 @@ def to_circuit(
                 gain = "finite"
                 values[f"{name}.A"] = model[1]
             elif isinstance(model, tuple) and model[0] == "pole":
-                gain = "pole"
+                gain = "pole" if len(model) == 3 else f"pole{len(model) - 2}"
                 values[f"{name}.A0"], values[f"{name}.GBW"] = model[1], model[2]
+                for k, fk in enumerate(model[3:], start=2):
+                    values[f"{name}.f{k}"] = fk
             else:
                 gain = model
             if options.get("cmrr"):
                 values[f"{name}.CMRR"] = 31622.0
+            if options.get("psrr"):
+                values[f"{name}.PSRR"] = 10000.0
+            values.update((f"{name}.{k}", v) for k, v in params.items())
             c.opamp(name, plus=item[2], minus=item[3], out=item[4], gain=gain, **options)
         else:
             raise ValueError(f"unknown element kind {kind!r}")

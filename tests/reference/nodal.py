@@ -14,7 +14,12 @@ A circuit is a list of tuples:
 * ``("I", name, a, b, value)``: ``value`` amperes flow through it from ``a`` into ``b``.
 * ``("OA", name, plus, minus, out, gain, vos, ibp, ibm)``: op-amp, output referred to
   ground; ``gain=None`` is the ideal op-amp. ``vos`` is in series with the ``+``
-  pin, ``ibp``/``ibm`` are currents *into* the pins.
+  pin, ``ibp``/``ibm`` are currents *into* the pins. An optional tenth field maps
+  ``"Ro"``, ``"Rid"``, ``"Ricm"`` to ohms: the op-amp's output resistance, then
+  drawn as a resistor from an internal node (where the gain equation holds) to
+  ``out``; its differential input resistance, a resistor between the pins; its
+  common-mode input resistance, a resistor from each pin to ground. They are
+  resistors like any other here, never opsym's stamps.
 
 Ground is ``"0"`` (``"gnd"`` is accepted as an alias).
 
@@ -118,6 +123,7 @@ def with_sources(desc: Iterable[Sequence[Any]], values: Mapping[str, float]) -> 
                     values.get(f"{name}.Vos", 0.0),
                     values.get(f"{name}.Ib+", 0.0),
                     values.get(f"{name}.Ib-", 0.0),
+                    *item[9:],
                 )
             )
         else:
@@ -127,7 +133,7 @@ def with_sources(desc: Iterable[Sequence[Any]], values: Mapping[str, float]) -> 
 
 def floating_nodes(desc: Iterable[Sequence[Any]]) -> set[str]:
     """Nodes without a DC path to ground (resistors, voltage sources, op-amp outputs)."""
-    desc = list(desc)
+    desc = _expand(list(desc))
     adj: dict[str, set[str]] = {n: set() for n in [GROUND, *nodes_of(desc)]}
 
     def link(a: str, b: str) -> None:
@@ -161,9 +167,32 @@ def _exact_number(x: Any) -> Fraction:
     return Fraction(x)
 
 
+def _expand(desc: Sequence[Sequence[Any]]) -> list[tuple]:
+    """The description with each op-amp's Ro, Rid and Ricm drawn as resistors."""
+    out: list[tuple] = []
+    for item in desc:
+        if item[0] != "OA" or len(item) < 10 or not item[9]:
+            out.append(tuple(item[:9]) if item[0] == "OA" else tuple(item))
+            continue
+        name, plus, minus, pin = item[1], item[2], item[3], item[4]
+        extras = dict(item[9])
+        if "Rid" in extras:
+            out.append(("R", f"{name}#Rid", plus, minus, extras["Rid"]))
+        if "Ricm" in extras:
+            out.append(("R", f"{name}#Ricm+", plus, GROUND, extras["Ricm"]))
+            out.append(("R", f"{name}#Ricm-", minus, GROUND, extras["Ricm"]))
+        if "Ro" in extras:
+            inner = f"{name}#o"
+            out.append(("R", f"{name}#Ro", inner, pin, extras["Ro"]))
+            pin = inner
+        out.append((item[0], name, plus, minus, pin, *item[5:9]))
+    return out
+
+
 def _system(desc: Sequence[Sequence[Any]], exact: bool):
     """Return (matrix rows, rhs, node list) of the eliminated nodal system."""
     num = _exact_number if exact else float
+    desc = _expand(desc)
     nodes = nodes_of(desc)
     index = {n: i for i, n in enumerate(nodes)}
     n = len(nodes)
@@ -446,7 +475,9 @@ def to_circuit(
     Passive parts and op-amp gains named in ``symbolic`` stay symbols (an op-amp's
     gain is symbolic when its own name is listed, giving ``U1.A``); every other one
     gets its numeric value. Sources are always symbolic, so that each one is a term.
-    ``opamp_options`` go to every ``Circuit.opamp`` call (e.g. ``cmrr=True``).
+    ``opamp_options`` go to every ``Circuit.opamp`` call (e.g. ``cmrr=True``). An
+    op-amp's ``Ro``/``Rid``/``Ricm`` become the kinds ``ro``/``rid``/``ricm`` (symbols
+    ``U1.Ro`` …, valued by :func:`numeric_values`).
     """
     import opsym
 
@@ -470,9 +501,10 @@ def to_circuit(
                 g = "finite"
             else:
                 g = gain
-            c.opamp(
-                name, plus=item[2], minus=item[3], out=item[4], gain=g, **(opamp_options or {})
-            )
+            kinds = {"Ro": "ro", "Rid": "rid", "Ricm": "ricm"}
+            extra = [kinds[k] for k in (item[9] if len(item) > 9 and item[9] else {})]
+            c.opamp(name, plus=item[2], minus=item[3], out=item[4], gain=g, extra=extra,
+                    **(opamp_options or {}))  # fmt: skip
         else:
             raise ValueError(f"unknown element kind {kind!r}")
     return c
@@ -482,6 +514,8 @@ def numeric_values(circuit, desc: Sequence[Sequence[Any]], symbolic: Iterable[st
     """Symbol -> value for the parts that ``to_circuit`` left symbolic."""
     out = {}
     for item in desc:
+        if item[0] == "OA" and len(item) > 9 and item[9]:  # always symbols in opsym
+            out.update((circuit.symbol(f"{item[1]}.{k}"), v) for k, v in item[9].items())
         if item[1] not in set(symbolic):
             continue
         if item[0] in ("R", "C"):

@@ -20,10 +20,18 @@ Element models at ``s``
   the symbol ``U.A`` (value from ``values``) or the single-pole model of the
   parameters ``U.A0`` and ``U.GBW``, ``1/A(s) = 1/A0 + s/(2π·GBW)`` (the
   documented model ``A(s) = A0/(1 + s·A0/(2π·GBW))``).
+  The multi-pole model of ``U.A0``, ``U.GBW``, ``U.f2``, ``U.f3``… is rebuilt as
+  ``1/A(s) = (1/A0 + s/(2π·GBW))·Π(1 + s/(2π·fk))``.
 * op-amp sources, by declared kind (the conventions of ``docs/conventions.md``):
   in series with the ``+`` pin ``Vos`` (offset), ``Vcm/CMRR`` (cmrr), ``dVs/PSRR``
   (psrr) and ``en`` (vnoise); into the pins ``Ib+``/``Ib-`` (bias) and
-  ``in+``/``in-`` (inoise).
+  ``in+``/``in-`` (inoise). ``cmrr-pole``/``psrr-pole`` multiply the weight of
+  ``Vcm``/``dVs`` by ``1 + s/(2π·fcmrr)``/``1 + s/(2π·fpsrr)``.
+* op-amp impedances, as elements of their own (not as opsym stamps them): the
+  controlled source drives an internal node, and ``Ro`` (resistor) and ``Lo``
+  (inductor) lead from it to the output pin in series (``ro``, ``lo``); ``Rid``
+  and ``Cid`` are a resistor and a capacitor between the pins (``rid``, ``cid``);
+  ``Ricm`` and ``Ccm`` one from each pin to ground (``ricm``, ``ccm``).
 
 Formulation
 -----------
@@ -78,6 +86,14 @@ _PINS = {
     "bias": [("Ib+", "plus"), ("Ib-", "minus")],
     "inoise": [("in+", "plus"), ("in-", "minus")],
 }
+# impedances between pins: (parameter, R or C, [(pin, pin)…]); the rejection corners
+_SHUNTS = {
+    "rid": ("Rid", "R", [("plus", "minus")]),
+    "cid": ("Cid", "C", [("plus", "minus")]),
+    "ricm": ("Ricm", "R", [("plus", "ground"), ("minus", "ground")]),
+    "ccm": ("Ccm", "C", [("plus", "ground"), ("minus", "ground")]),
+}
+_CORNERS = {"cmrr-pole": ("Vcm", "fcmrr"), "psrr-pole": ("dVs", "fpsrr")}
 
 
 def laplace(f: float) -> complex:
@@ -132,6 +148,12 @@ def _gain_model(amp, values: Mapping[str, Any]):
         return ("finite", _lookup(values, f"{u}.A"))
     if names == {f"{u}.A0", f"{u}.GBW", "s"}:
         return ("pole", _lookup(values, f"{u}.A0"), _lookup(values, f"{u}.GBW"))
+    further = sorted(n for n in names if n.startswith(f"{u}.f"))
+    if names == {f"{u}.A0", f"{u}.GBW", "s", *further} and further == [
+        f"{u}.f{k}" for k in range(2, len(further) + 2)
+    ]:
+        return ("pole", _lookup(values, f"{u}.A0"), _lookup(values, f"{u}.GBW"),
+                *(_lookup(values, n) for n in further))  # fmt: skip
     raise ValueError(f"op-amp {u}: no reference model for the gain {g}")
 
 
@@ -141,7 +163,7 @@ def _records(circuit, values: Mapping[str, Any], thermal: bool) -> list[tuple]:
     ``("Y", a, b, kind, number)`` two-terminal impedance of ``kind`` R/C/L;
     ``("J", a, b, source, weight)`` a current ``weight·source`` from ``a`` into ``b``;
     ``("E", p, m, source, weight)`` a branch ``V(p) - V(m) = weight·source``;
-    ``("OA", name, plus, minus, out, model, [(source, weight)…])``.
+    ``("OA", name, plus, minus, out, model, [(source, weight, corner or None)…])``.
     """
     from opsym.model.elements import (
         Capacitor,
@@ -170,24 +192,45 @@ def _records(circuit, values: Mapping[str, Any], thermal: bool) -> list[tuple]:
         elif isinstance(e, CurrentSource):
             out.append(("J", e.a, e.b, e.name, Fraction(1)))
         elif isinstance(e, OpAmp):
-            series = []
-            for kind in (k.kind for k in e.nonideals):
-                if kind in _SERIES:
-                    for suffix, param in _SERIES[kind]:
-                        w = Fraction(1)
-                        if param is not None:
-                            w = 1 / _lookup(values, f"{e.name}.{param}")
-                        series.append((f"{e.name}.{suffix}", w))
-                elif kind in _PINS:
-                    for suffix, pin in _PINS[kind]:
-                        node = e.plus if pin == "plus" else e.minus
-                        out.append(("J", node, GROUND, f"{e.name}.{suffix}", Fraction(1)))
-                else:
-                    raise ValueError(f"op-amp {e.name}: no reference model for kind {kind!r}")
-            model = _gain_model(e, values)
-            out.append(("OA", e.name, e.plus, e.minus, e.out, model, series))
+            out += _opamp_records(e, values)
         else:
             raise ValueError(f"no reference model for {type(e).__name__} {e.name}")
+    return out
+
+
+def _opamp_records(e, values: Mapping[str, Any]) -> list[tuple]:
+    """The op-amp, its sources and its impedances as plain records."""
+    out: list[tuple] = []
+    series = []
+    kinds = [k.kind for k in e.nonideals]
+    pins = {"plus": e.plus, "minus": e.minus, "ground": GROUND}
+    for kind in kinds:
+        if kind in _SERIES:
+            for suffix, param in _SERIES[kind]:
+                w = Fraction(1)
+                if param is not None:
+                    w = 1 / _lookup(values, f"{e.name}.{param}")
+                corner = None
+                for k, (src, fc) in _CORNERS.items():
+                    if src == suffix and k in kinds:
+                        corner = _lookup(values, f"{e.name}.{fc}")
+                series.append((f"{e.name}.{suffix}", w, corner))
+        elif kind in _PINS:
+            for suffix, pin in _PINS[kind]:
+                out.append(("J", pins[pin], GROUND, f"{e.name}.{suffix}", Fraction(1)))
+        elif kind in _SHUNTS:
+            param, what, pairs = _SHUNTS[kind]
+            for a, b in pairs:
+                out.append(("Y", pins[a], pins[b], what, _lookup(values, f"{e.name}.{param}")))
+        elif kind not in ("ro", "lo", *_CORNERS):
+            raise ValueError(f"op-amp {e.name}: no reference model for kind {kind!r}")
+    node = e.out  # the controlled source's own node, then Ro and Lo in series to the pin
+    for kind, param, what in (("ro", "Ro", "R"), ("lo", "Lo", "L")):
+        if kind in kinds:
+            inner = f"{e.name}#{param}"
+            out.append(("Y", inner, node, what, _lookup(values, f"{e.name}.{param}")))
+            node = inner
+    out.append(("OA", e.name, e.plus, e.minus, node, _gain_model(e, values), series))
     return out
 
 
@@ -299,13 +342,17 @@ def _build(records: list[tuple], nums: _Numbers, sources: list[str]):
                 a0, gbw = nums.num(model[1]), nums.num(model[2])
                 pi = nums.ctx.pi if nums.precise else math.pi
                 inv = 1 / a0 + s / (2 * pi * gbw)
+                for fk in model[3:]:  # further poles
+                    inv = inv * (1 + s / (2 * pi * nums.num(fk)))
             row = {out: inv}
             for node, sign in ((plus, -1), (minus, 1)):
                 if node is not None:
                     row[node] = row.get(node, z) + sign
             srcs: dict[int, Any] = {}
-            for src, w in series:
-                srcs[col[src]] = srcs.get(col[src], z) + nums.num(w)
+            pi = nums.ctx.pi if nums.precise else math.pi
+            for src, w, corner in series:
+                rise = 1 if corner is None else 1 + s / (2 * pi * nums.num(corner))
+                srcs[col[src]] = srcs.get(col[src], z) + nums.num(w) * rise
             branch(f"op-amp {name} output", out, None, row, srcs)
 
     # eliminate the unknown branch currents (integer incidence: exact row operations)
@@ -379,7 +426,7 @@ def _sources(records: list[tuple]) -> list[str]:
         if rec[0] in ("J", "E") and rec[3] is not None:
             names.append(rec[3])
         elif rec[0] == "OA":
-            names += [src for src, _ in rec[6]]
+            names += [src for src, _, _ in rec[6]]
     return list(dict.fromkeys(names))
 
 
