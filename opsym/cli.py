@@ -8,6 +8,7 @@ Commands::
                                     frequency response and the noise budget
     opsym rewrite FILE              print the design file as opsym writes it
     opsym export FILE --netlist OUT write a SPICE netlist to check in a simulator
+    opsym example NAME [-o PATH]    print (or write) a shipped example design file
 
 ``opsym report`` prints its summary on standard output; ``--latex``,
 ``--markdown`` and ``--figures`` write design notes and figures as well.
@@ -38,6 +39,7 @@ from . import __version__
 from .demo import run  # imported here: the demo pulls in the whole library
 from .errors import OpsymError
 from .io import designfile  # called as designfile.load_design, so tests can stand in
+from .io.examples import example_names, example_text
 from .io.spice import write_netlist
 from .io.writer import dump_design
 from .output.report import FigurePlan, figure_plans, study_note
@@ -132,8 +134,13 @@ def _parser() -> argparse.ArgumentParser:
     )
     report.add_argument(
         "--figures", metavar="DIR", type=Path,
-        help="write figures (PNG) into DIR: contributions, temperature, Monte Carlo, Bode, "
+        help="write figures into DIR: contributions, temperature, Monte Carlo, Bode, "
         "gain error, noise density",
+    )  # fmt: skip
+    report.add_argument(
+        "--figure-format", choices=("png", "pdf"), default="png",
+        help="with --figures: png (default) or pdf, vector figures that a LaTeX note "
+        "includes as sharply as its text",
     )  # fmt: skip
     report.add_argument(
         "--quiet", "-q", action="store_true", help="no summary on standard output, no progress"
@@ -162,6 +169,17 @@ def _parser() -> argparse.ArgumentParser:
                         help="parameter-set grade of Vos, Ib, A (default typical)")  # fmt: skip
     _netlist_options(export)
     export.set_defaults(run=_export)
+
+    example = commands.add_parser(
+        "example", help="print or write one of the example design files shipped with opsym",
+        description="Print a shipped example design file (invented scenarios), or write it "
+        "with --output to edit and run with 'opsym report'. --list names them.",
+    )  # fmt: skip
+    example.add_argument("name", nargs="?", metavar="NAME", help="the example's name")
+    example.add_argument("--list", action="store_true", help="list the examples' names")
+    example.add_argument("--output", "-o", metavar="PATH", type=Path,
+                         help="write the example to PATH instead of printing it")  # fmt: skip
+    example.set_defaults(run=_example)
     return parser
 
 
@@ -225,6 +243,27 @@ def _export(args: argparse.Namespace) -> int:
     return 0
 
 
+def _example(args: argparse.Namespace) -> int:
+    if args.list:
+        print("\n".join(example_names()))
+        return 0
+    if args.name is None:
+        raise _OutputError("opsym example: give an example's name, or --list to see them")
+    text = example_text(args.name)
+    if args.output is None:
+        sys.stdout.write(text)
+        return 0
+    if args.output.exists():
+        raise _OutputError(f"opsym example: {args.output} exists; give a new file name")
+    try:
+        args.output.parent.mkdir(parents=True, exist_ok=True)
+        _replace(args.output, text.encode("utf-8"))
+    except OSError as err:
+        raise _OutputError(f"cannot write {args.output}: {err.strerror or err}") from None
+    print(f"wrote {args.output}", file=sys.stderr)
+    return 0
+
+
 def _report(args: argparse.Namespace) -> int:
 
     notes = [p for p in (args.latex, args.markdown) if p is not None]
@@ -235,7 +274,8 @@ def _report(args: argparse.Namespace) -> int:
         study = run_design(design, progress=progress)
         if progress is not None:
             progress.phase("writing the notes")
-        plans = _figure_plans(study, args.figures) if args.figures is not None else []
+        plans = (_figure_plans(study, args.figures, args.figure_format)
+                 if args.figures is not None else [])  # fmt: skip
         files: dict[Path, str] = {}
         if args.latex is not None:
             files[args.latex] = study_note(study, "latex", plans, args.latex, args.standalone)
@@ -263,9 +303,9 @@ class _OutputError(OpsymError, OSError):
 # -- report parts ------------------------------------------------------------------------
 
 
-def _figure_plans(study: Any, directory: Path) -> list[FigurePlan]:
+def _figure_plans(study: Any, directory: Path, fmt: str = "png") -> list[FigurePlan]:
     """The figures this study can draw; an error when there are none."""
-    plans = figure_plans(study, directory)
+    plans = figure_plans(study, directory, fmt)
     if not plans:
         raise _OutputError(
             "--figures: this design has nothing to draw; give op-amp parameter sets "

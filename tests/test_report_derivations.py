@@ -27,7 +27,7 @@ from opsym.io.designfile import load_design
 from opsym.model.symbols import LAPLACE
 from opsym.study.design import design_values, run_design
 
-EXAMPLES = sorted((Path(__file__).parents[1] / "docs" / "examples").glob("*.toml"))
+EXAMPLES = sorted((Path(__file__).parents[1] / "opsym" / "examples").glob("*.toml"))
 
 
 @pytest.fixture

@@ -165,12 +165,12 @@ def test_the_exported_netlist_matches_the_reference_runner(ngspice, stage, sourc
 
 
 def test_command_line_export_of_an_example_design(ngspice, tmp_path, capsys):
-    """``opsym export`` of docs/examples/inverting-bias-compensation.toml, run in ngspice."""
+    """``opsym export`` of opsym/examples/inverting-bias-compensation.toml, run in ngspice."""
     from pathlib import Path
 
     from opsym.cli import main
 
-    toml = Path(__file__).resolve().parents[1] / "docs/examples/inverting-bias-compensation.toml"
+    toml = Path(__file__).resolve().parents[1] / "opsym/examples/inverting-bias-compensation.toml"
     out = tmp_path / "stage.cir"
     assert main(["export", str(toml), "--netlist", str(out)]) == 0
     assert "stage.cir: written" in capsys.readouterr().out

@@ -2,8 +2,15 @@
 
 matplotlib is imported inside each function and drawn on its own Agg canvas
 (no pyplot, no global backend change), so importing opsym never needs it and
-figures work on machines without a display. The file format follows the
-suffix of ``path`` (``.png``, ``.pdf``, ``.svg``).
+figures work on machines without a display.
+
+Every function returns the matplotlib ``Figure`` (a notebook shows it), writes
+it to ``path`` when one is given (the format follows the suffix: ``.png``, or
+``.pdf`` / ``.svg`` for vector figures) and draws into a given ``ax=`` (an
+``Axes``; for :func:`bode_chart` a pair, magnitude and phase) instead of a new
+figure, so a figure can be one panel of the caller's own layout. Frequency
+axes are labelled in Hz; legends go where they cover the fewest points
+(``loc="best"``).
 
 Examples
 --------
@@ -14,9 +21,12 @@ Examples
 >>> study = tolerance_analysis(1 + R2 / R1, {"R1": 1e3, "R2": 9e3}, {"R1": 0.01, "R2": 0.01},
 ...                            samples=500, seed=3)
 >>> with tempfile.TemporaryDirectory() as d:
-...     p = monte_carlo_histogram(study, pathlib.Path(d) / "mc.png")
-...     p.stat().st_size > 0
+...     fig = monte_carlo_histogram(study, pathlib.Path(d) / "mc.png")
+...     (pathlib.Path(d) / "mc.png").stat().st_size > 0
 True
+>>> type(fig).__name__
+'Figure'
+
 """
 
 from __future__ import annotations
@@ -64,13 +74,28 @@ def _figure(width: float = 6.4, height: float = 3.6):
     return fig
 
 
-def _save(fig: Any, path: Any) -> Path:
+def _check_path(path: Any) -> Path | None:
+    """``path`` as a Path, refused before any drawing when its suffix is not a known format."""
+    if path is None:
+        return None
     p = Path(path)
     if p.suffix.lower() not in (".png", ".pdf", ".svg"):
         raise BudgetError(f"figure path {str(p)!r}: use a .png, .pdf or .svg file name")
-    p.parent.mkdir(parents=True, exist_ok=True)
-    fig.savefig(p, dpi=150)
     return p
+
+
+def _axes(ax: Any, width: float = 6.4, height: float = 3.6) -> Any:
+    """The given Axes, else one Axes on a new figure of that size."""
+    return ax if ax is not None else _figure(width, height).add_subplot()
+
+
+def _save(fig: Any, path: Any) -> Any:
+    """Write ``fig`` to ``path`` when one is given; return the figure."""
+    p = _check_path(path)
+    if p is not None:
+        p.parent.mkdir(parents=True, exist_ok=True)
+        fig.savefig(p, dpi=150)
+    return fig
 
 
 def _volts_axis(ax: Any, axis: str = "x") -> None:
@@ -81,22 +106,32 @@ def _volts_axis(ax: Any, axis: str = "x") -> None:
     (ax.xaxis if axis == "x" else ax.yaxis).set_major_formatter(fmt)
 
 
-def contribution_chart(budget: Any, path: Any, *, top: int | None = None) -> Path:
+def contribution_chart(
+    budget: Any, path: Any = None, *, top: int | None = None, ax: Any = None
+) -> Any:
     """Horizontal bars of each row's ``|output|``, largest at the top, with the totals.
 
     Parameters
     ----------
     budget : Budget
-    path : str or Path
-        File to write.
+    path : str or Path, optional
+        File to write (``.png``, ``.pdf`` or ``.svg``); none: only draw.
     top : int, optional
         Show only the largest ``top`` rows.
+    ax : matplotlib Axes, optional
+        Draw into this Axes instead of a new figure.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        The figure drawn on (the one ``ax`` belongs to, when given).
     """
+    _check_path(path)
     rows = [r for r in budget.rows if r.magnitude > 0][: top or None]
     if not rows:
         raise BudgetError("contribution_chart: every contribution is zero; nothing to draw")
-    fig = _figure(6.4, 0.9 + 0.38 * len(rows))
-    ax = fig.add_subplot()
+    ax = _axes(ax, 6.4, 0.9 + 0.38 * len(rows))
+    fig = ax.figure
     labels = [r.label for r in rows][::-1]
     mags = [r.magnitude for r in rows][::-1]
     ax.barh(labels, mags, color="#4c72b0")
@@ -107,14 +142,18 @@ def contribution_chart(budget: Any, path: Any, *, top: int | None = None) -> Pat
     _volts_axis(ax, "x")
     ax.set_xlabel("|error at output|")
     ax.set_title(budget.title, fontsize=10)
-    ax.legend(fontsize=8, loc="lower right")
+    ax.legend(fontsize=8, loc="best")
     return _save(fig, path)
 
 
-def temperature_chart(sweep: Any, path: Any, *, top: int = 3) -> Path:
-    """Worst case, RSS and the largest contributors against temperature."""
-    fig = _figure()
-    ax = fig.add_subplot()
+def temperature_chart(sweep: Any, path: Any = None, *, top: int = 3, ax: Any = None) -> Any:
+    """Worst case, RSS and the largest contributors against temperature.
+
+    ``path`` and ``ax`` as in :func:`contribution_chart`; returns the Figure.
+    """
+    _check_path(path)
+    ax = _axes(ax)
+    fig = ax.figure
     t = list(sweep.temperatures)
     ax.plot(t, sweep.worst_case, color="#c44e52", label="worst case", linewidth=2)
     ax.plot(t, sweep.rss, color="#dd8452", label="RSS", linestyle="--")
@@ -131,17 +170,21 @@ def temperature_chart(sweep: Any, path: Any, *, top: int = 3) -> Path:
     _volts_axis(ax, "y")
     ax.set_xlabel("temperature (°C)")
     ax.set_ylabel("|error at output|")
-    ax.legend(fontsize=8)
+    ax.legend(fontsize=8, loc="best")
     ax.grid(alpha=0.3)
     return _save(fig, path)
 
 
-def monte_carlo_histogram(study: Any, path: Any, *, bins: int = 60) -> Path:
-    """Histogram of a tolerance study's Monte Carlo samples, with corners and bound marked."""
+def monte_carlo_histogram(study: Any, path: Any = None, *, bins: int = 60, ax: Any = None) -> Any:
+    """Histogram of a tolerance study's Monte Carlo samples, with corners and bound marked.
+
+    ``path`` and ``ax`` as in :func:`contribution_chart`; returns the Figure.
+    """
+    _check_path(path)
     if study.mc is None:
         raise BudgetError("monte_carlo_histogram: the study has no Monte Carlo run (samples=None)")
-    fig = _figure()
-    ax = fig.add_subplot()
+    ax = _axes(ax)
+    fig = ax.figure
     ax.hist(study.mc.samples, bins=bins, color="#4c72b0", alpha=0.8, label="Monte Carlo")
     if study.corner_low is not None:
         for i, x in enumerate((study.corner_low, study.corner_high)):
@@ -152,7 +195,7 @@ def monte_carlo_histogram(study: Any, path: Any, *, bins: int = 60) -> Path:
     ax.set_xlabel(study.quantity + (f" ({study.unit})" if study.unit else ""))
     ax.set_ylabel("count")
     ax.set_title(f"{study.mc.count} samples, {study.mc.distribution}", fontsize=10)
-    ax.legend(fontsize=8)
+    ax.legend(fontsize=8, loc="best")
     return _save(fig, path)
 
 
@@ -244,7 +287,7 @@ def _hertz_axis(ax: Any) -> None:
 
 
     ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _pos: format_si(v, "Hz", 3)))
-    ax.set_xlabel("frequency")
+    ax.set_xlabel("frequency (Hz)")
 
 
 def _output_name(result: Any) -> str:
@@ -254,21 +297,22 @@ def _output_name(result: Any) -> str:
 
 def bode_chart(
     result: Any,
-    path: Any,
+    path: Any = None,
     *,
     source: Any = None,
     f_start: float | None = None,
     f_stop: float | None = None,
     ideal: bool = True,
-) -> Path:
+    ax: Any = None,
+) -> Any:
     """Magnitude (dB) and phase (degrees) of one coefficient of a ``domain="s"`` result.
 
     Parameters
     ----------
     result : Result
         A Laplace-domain result with every value but ``s`` given.
-    path : str or Path
-        File to write (``.png``, ``.pdf`` or ``.svg``).
+    path : str or Path, optional
+        File to write (``.png``, ``.pdf`` or ``.svg``); none: only draw.
     source : str, optional
         The source whose transfer function is drawn (default: the only signal).
     f_start, f_stop : float, optional
@@ -278,10 +322,12 @@ def bode_chart(
     ideal : bool
         Overlay the ideal (nullor) response, dashed, when an op-amp has a
         gain model.
+    ax : pair of matplotlib Axes, optional
+        Draw magnitude and phase into these two Axes instead of a new figure.
 
     Returns
     -------
-    Path
+    matplotlib.figure.Figure
 
     Examples
     --------
@@ -293,13 +339,19 @@ def bode_chart(
     >>> c.opamp("U1", plus="p", minus="out", out="out")
     >>> res = c.analyze("out", domain="s")
     >>> with tempfile.TemporaryDirectory() as d:
-    ...     bode_chart(res, pathlib.Path(d) / "bode.png").stat().st_size > 0
+    ...     fig = bode_chart(res, pathlib.Path(d) / "bode.png")
+    ...     (pathlib.Path(d) / "bode.png").stat().st_size > 0
     True
+    >>> [a.get_xlabel() for a in fig.axes]
+    ['', 'frequency (Hz)']
     """
-    return _save(_bode(result, source, f_start, f_stop, ideal), path)
+    _check_path(path)
+    return _save(_bode(result, source, f_start, f_stop, ideal, ax), path)
 
 
-def _bode(result: Any, source: Any, f_start: Any, f_stop: Any, ideal: bool) -> Any:
+def _bode(
+    result: Any, source: Any, f_start: Any, f_stop: Any, ideal: bool, ax: Any = None
+) -> Any:
     """The figure of :func:`bode_chart`, not yet saved (its axes and lines can be read)."""
 
     _need_s(result, "bode_chart")
@@ -307,8 +359,14 @@ def _bode(result: Any, source: Any, f_start: Any, f_stop: Any, ideal: bool) -> A
     lo, hi = _frequency_range(result, sym, f_start, f_stop)
     f = frequency_grid(lo, hi, _PER_DECADE)
     h = result.response(f, sym)
-    fig = _figure(6.4, 5.2)
-    ax_mag, ax_ph = fig.subplots(2, 1, sharex=True)
+    if ax is None:
+        ax_mag, ax_ph = _figure(6.4, 5.2).subplots(2, 1, sharex=True)
+    else:
+        try:
+            ax_mag, ax_ph = ax
+        except (TypeError, ValueError):
+            raise BudgetError("bode_chart: ax= takes two Axes, for magnitude and phase") from None
+    fig = ax_mag.figure
     unit = "dBΩ, re 1 V/A" if _is_current(result, sym) else "dB, re 1 V/V"
     with np.errstate(divide="ignore"):
         ax_mag.semilogx(f, 20 * np.log10(np.abs(h)), color="#4c72b0", label="circuit")
@@ -333,23 +391,25 @@ def _bode(result: Any, source: Any, f_start: Any, f_stop: Any, ideal: bool) -> A
     ax_mag.set_title(f"{result.circuit.title}: {_output_name(result)} / {sym}", fontsize=10)
     for ax in (ax_mag, ax_ph):
         ax.grid(which="both", alpha=0.3)
-    ax_mag.legend(fontsize=8)
+    ax_mag.legend(fontsize=8, loc="best")
     return fig
 
 
 def gain_error_chart(
     result: Any,
-    path: Any,
+    path: Any = None,
     *,
     signal: Any = None,
     f_start: float | None = None,
     f_stop: float | None = None,
-) -> Path:
+    ax: Any = None,
+) -> Any:
     """``|H/H_ideal − 1|`` against frequency, log-log, in % (or ppm when below 0.1 %).
 
     ``H_ideal`` is the nullor limit, so the curve is the error the op-amp's
     gain model causes; the dotted line is its DC value. The range defaults
-    as in :func:`bode_chart`.
+    as in :func:`bode_chart`; ``path`` and ``ax`` (one Axes) as in
+    :func:`contribution_chart`; returns the Figure.
 
     Examples
     --------
@@ -359,13 +419,15 @@ def gain_error_chart(
     >>> c.opamp("U1", plus="p", minus="out", out="out", gain="pole")
     >>> res = c.analyze("out", domain="s", values={"U1.A0": "100k", "U1.GBW": "1M"})
     >>> with tempfile.TemporaryDirectory() as d:
-    ...     gain_error_chart(res, pathlib.Path(d) / "err.svg").suffix
-    '.svg'
+    ...     fig = gain_error_chart(res, pathlib.Path(d) / "err.svg")
+    ...     (pathlib.Path(d) / "err.svg").read_text()[:5]
+    '<?xml'
     """
-    return _save(_gain_error(result, signal, f_start, f_stop), path)
+    _check_path(path)
+    return _save(_gain_error(result, signal, f_start, f_stop, ax), path)
 
 
-def _gain_error(result: Any, signal: Any, f_start: Any, f_stop: Any) -> Any:
+def _gain_error(result: Any, signal: Any, f_start: Any, f_stop: Any, ax: Any = None) -> Any:
     """The figure of :func:`gain_error_chart`, not yet saved."""
 
     _need_s(result, "gain_error_chart")
@@ -382,8 +444,8 @@ def _gain_error(result: Any, signal: Any, f_start: Any, f_stop: Any) -> Any:
     if not np.any(err > 0):
         raise BudgetError("gain_error_chart: the gain error is zero over the whole range")
     scale, unit = (1e6, "ppm") if float(np.max(err)) < 1e-3 else (100.0, "%")
-    fig = _figure()
-    ax = fig.add_subplot()
+    ax = _axes(ax)
+    fig = ax.figure
     ax.loglog(f, np.where(err > 0, err * scale, np.nan), color="#c44e52",
               label="|H/H_ideal − 1|")  # fmt: skip
     if dc > 0:
@@ -393,7 +455,7 @@ def _gain_error(result: Any, signal: Any, f_start: Any, f_stop: Any) -> Any:
     _hertz_axis(ax)
     ax.set_title(f"{result.circuit.title}: gain error from {sym}", fontsize=10)
     ax.grid(which="both", alpha=0.3)
-    ax.legend(fontsize=8)
+    ax.legend(fontsize=8, loc="best")
     return fig
 
 
@@ -405,17 +467,19 @@ def _noise_label(noise_result: Any, name: str) -> str:
 
 def noise_density_chart(
     noise_result: Any,
-    path: Any,
+    path: Any = None,
     *,
     f_start: float = 1.0,
     f_stop: float = 1e6,
     top: int | None = None,
-) -> Path:
+    ax: Any = None,
+) -> Any:
     """Total output noise density (V/√Hz) and each source's part, log-log.
 
     Sources are ranked by their noise power over the range; ``top`` keeps
     the largest ``top`` and adds the rest in power as "others". Sources that
-    do not reach the output are left out.
+    do not reach the output are left out. ``path`` and ``ax`` as in
+    :func:`contribution_chart`; returns the Figure.
 
     Examples
     --------
@@ -427,13 +491,17 @@ def noise_density_chart(
     >>> c.opamp("U1", plus="0", minus="n", out="out", bias=False)
     >>> n = c.noise("out", values={"U1.en": "8n", "U1.in": "1p"})
     >>> with tempfile.TemporaryDirectory() as d:
-    ...     noise_density_chart(n, pathlib.Path(d) / "noise.png", top=2).suffix
-    '.png'
+    ...     fig = noise_density_chart(n, pathlib.Path(d) / "noise.png", top=2)
+    ...     (pathlib.Path(d) / "noise.png").read_bytes()[1:4]
+    b'PNG'
     """
-    return _save(_noise_density(noise_result, f_start, f_stop, top), path)
+    _check_path(path)
+    return _save(_noise_density(noise_result, f_start, f_stop, top, ax), path)
 
 
-def _noise_density(noise_result: Any, f_start: float, f_stop: float, top: int | None) -> Any:
+def _noise_density(
+    noise_result: Any, f_start: float, f_stop: float, top: int | None, ax: Any = None
+) -> Any:
     """The figure of :func:`noise_density_chart`, not yet saved."""
 
     if top is not None and (isinstance(top, bool) or not isinstance(top, int) or top < 1):
@@ -445,8 +513,8 @@ def _noise_density(noise_result: Any, f_start: float, f_stop: float, top: int | 
     if not ranked:
         raise BudgetError("noise_density_chart: no noise source reaches the output")
     shown, rest = (ranked, []) if top is None else (ranked[:top], ranked[top:])
-    fig = _figure()
-    ax = fig.add_subplot()
+    ax = _axes(ax)
+    fig = ax.figure
     total = np.sqrt(sum(d**2 for d in parts.values()))
     ax.loglog(f, total, color="black", linewidth=2, label="total (root-sum-square)")
     for name in shown:
@@ -465,7 +533,7 @@ def _noise_density(noise_result: Any, f_start: float, f_stop: float, top: int | 
     ax.set_title(f"{noise_result.circuit.title}: noise at {_output_name(noise_result)}, "
                  f"{celsius:g} °C", fontsize=10)  # fmt: skip
     ax.grid(which="both", alpha=0.3)
-    ax.legend(fontsize=8)
+    ax.legend(fontsize=8, loc="best")
     return fig
 
 

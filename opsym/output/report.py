@@ -23,6 +23,7 @@ from functools import partial
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, NamedTuple
 
+from ..errors import BudgetError
 from .figures import (
     bode_chart,
     contribution_chart,
@@ -56,26 +57,32 @@ class FigurePlan(NamedTuple):
     draw: Callable[[Path], Any]
 
 
-def figure_plans(study: Study, directory: Path) -> list[FigurePlan]:
-    """The figures this study can draw into ``directory`` (none: an empty list)."""
-    plans = [*_response_plans(study, directory), *_noise_plans(study, directory)]
+def figure_plans(study: Study, directory: Path, fmt: str = "png") -> list[FigurePlan]:
+    """The figures this study can draw into ``directory`` (none: an empty list).
+
+    ``fmt`` is the file format: ``png`` (default), or ``pdf`` / ``svg`` for
+    vector figures (a LaTeX note includes a PDF figure as sharply as its text).
+    """
+    if fmt not in ("png", "pdf", "svg"):
+        raise BudgetError(f"figure format {fmt!r}: use png, pdf or svg")
+    plans = [*_response_plans(study, directory, fmt), *_noise_plans(study, directory, fmt)]
     if study.budget is not None:
         draw = partial(contribution_chart, study.budget)
-        plans.append(FigurePlan(directory / "contributions.png", "Error contributions", BUDGET,
+        plans.append(FigurePlan(directory / f"contributions.{fmt}", "Error contributions", BUDGET,
                                 draw))  # fmt: skip
     if study.sweep is not None:
         draw = partial(temperature_chart, study.sweep)
-        plans.append(FigurePlan(directory / "temperature.png", "Error over temperature", BUDGET,
+        plans.append(FigurePlan(directory / f"temperature.{fmt}", "Error over temperature", BUDGET,
                                 draw))  # fmt: skip
     for i, s in enumerate(study.studies, start=1):
         if s.mc is not None:
             draw = partial(monte_carlo_histogram, s)
-            plans.append(FigurePlan(directory / f"monte-carlo-{i}.png",
+            plans.append(FigurePlan(directory / f"monte-carlo-{i}.{fmt}",
                                     f"Monte Carlo: {s.quantity}", BUDGET, draw))  # fmt: skip
     return plans
 
 
-def _response_plans(study: Study, directory: Path) -> list[FigurePlan]:
+def _response_plans(study: Study, directory: Path, fmt: str) -> list[FigurePlan]:
     """The Bode plot and the gain error of a ``[response]`` analysis."""
     r = study.response
     if r is None:
@@ -89,12 +96,12 @@ def _response_plans(study: Study, directory: Path) -> list[FigurePlan]:
         return gain_error_chart(r.result, p, signal=r.signal, **band)
 
     return [
-        FigurePlan(directory / "bode.png", f"Bode plot: {what}", FREQUENCY, bode),
-        FigurePlan(directory / "gain-error.png", f"Gain error: {what}", FREQUENCY, gain_error),
+        FigurePlan(directory / f"bode.{fmt}", f"Bode plot: {what}", FREQUENCY, bode),
+        FigurePlan(directory / f"gain-error.{fmt}", f"Gain error: {what}", FREQUENCY, gain_error),
     ]
 
 
-def _noise_plans(study: Study, directory: Path) -> list[FigurePlan]:
+def _noise_plans(study: Study, directory: Path, fmt: str) -> list[FigurePlan]:
     """The output noise density of a ``[noise]`` analysis."""
     n = study.noise
     if n is None:
@@ -105,7 +112,7 @@ def _noise_plans(study: Study, directory: Path) -> list[FigurePlan]:
         return noise_density_chart(n.result, p, f_start=low, f_stop=high)
 
     caption = f"Output noise density at {n.budget.output}"
-    return [FigurePlan(directory / "noise-density.png", caption, NOISE, density)]
+    return [FigurePlan(directory / f"noise-density.{fmt}", caption, NOISE, density)]
 
 
 def noise_plot_band(study: Any) -> tuple[float, float]:

@@ -22,12 +22,16 @@ U1 Ib    9.5 mV
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import html
+from collections.abc import Mapping
+from dataclasses import dataclass, replace
+
+import sympy as sp
 
 from ..errors import OpsymError
+from ..model.symbols import SYMBOLS, latex_name
 
-__all__ = [
-    "SHORT_CAUTION","Table", "latex_text"]
+__all__ = ["SHORT_CAUTION", "Table", "latex_text", "math_label", "with_math"]
 
 #: The caution every budget and noise table ends with (design notes carry the long one).
 SHORT_CAUTION = (
@@ -214,3 +218,84 @@ class Table:
             lines += [line(r) for r in self.footer]
         lines += list(self.notes)
         return "\n".join(lines)
+
+
+def _html_row(cells: tuple[str, ...], align: str, tag: str) -> str:
+    side = {"l": "left", "r": "right", "c": "center"}
+    return "<tr>" + "".join(
+        f'<{tag} style="text-align: {side[a]}">{html.escape(str(c))}</{tag}>'
+        for c, a in zip(cells, align, strict=True)
+    ) + "</tr>"
+
+
+def to_html(table: Table) -> str:
+    """An HTML ``<table>`` (caption, header, body, footer rows in bold) and its notes.
+
+    Text is escaped; ``$…$`` math is left for the notebook's MathJax.
+
+    Examples
+    --------
+    >>> t = Table(("source", "output"), (("$V_{a}$ <1>", "2 mV"),), "lr", "Budget")
+    >>> print(to_html(t))  # doctest: +ELLIPSIS
+    <table>
+    <caption>Budget</caption>
+    <thead><tr><th style="text-align: left">source</th>...</thead>
+    <tbody>
+    <tr><td style="text-align: left">$V_{a}$ &lt;1&gt;</td>...</tr>
+    </tbody>
+    </table>
+    """
+    lines = ["<table>"]
+    if table.caption:
+        lines.append(f"<caption>{html.escape(table.caption)}</caption>")
+    lines.append("<thead>" + _html_row(table.headers, table.align, "th") + "</thead>")
+    lines += ["<tbody>", *(_html_row(r, table.align, "td") for r in table.rows), "</tbody>"]
+    if table.footer:
+        lines += ["<tfoot>", *(_html_row(r, table.align, "th") for r in table.footer),
+                  "</tfoot>"]  # fmt: skip
+    lines.append("</table>")
+    if table.notes:
+        lines.append("<ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in table.notes)
+                     + "</ul>")  # fmt: skip
+    return "\n".join(lines)
+
+
+def math_label(name: str, label: str | None = None) -> str:
+    r"""A table label with its symbol written as ``Result`` writes it, in ``$…$`` math.
+
+    ``name`` is a symbol's name (``U1.Vos``, ``R1``); a label that ends with
+    the symbol's own short name (``U1 offset voltage Vos``) gets that word
+    replaced, another label gets the symbol appended. Names that are no symbol
+    (``gain: open-loop``) leave the label as it is.
+
+    Examples
+    --------
+    >>> print(math_label("U1.Vos", "U1 offset voltage Vos"))
+    U1 offset voltage $V_{\mathrm{OS},\mathrm{U1}}$
+    >>> print(math_label("U1.dVs", "U1 supply change dVs/PSRR"))
+    U1 supply change $\Delta V_{\mathrm{S},\mathrm{U1}}$/PSRR
+    >>> print(math_label("U1.A"))
+    $A_{\mathrm{U1}}$
+    >>> math_label("gain: open-loop", "finite open-loop gain")
+    'finite open-loop gain'
+    """
+    owner, dot, what = name.partition(".")
+    if (dot and what not in SYMBOLS) or (not dot and not name.replace("_", "").isalnum()):
+        return label if label is not None else name
+    math = "$" + latex_name(sp.Symbol(name)) + "$"
+    if label is None:
+        return math
+    head, _, last = label.rpartition(" ")
+    word, slash, rest = last.partition("/")
+    if word == (what if dot else owner):
+        return f"{head} {math}{slash}{rest}".lstrip()
+    return f"{label} ({math})"
+
+
+def with_math(table: Table, names: Mapping[str, str]) -> Table:
+    """``table`` with each header or body cell that is a key of ``names`` replaced by its value."""
+
+    def cells(row: tuple[str, ...]) -> tuple[str, ...]:
+        return tuple(names.get(c, c) for c in row)
+
+    return replace(table, headers=cells(table.headers), rows=tuple(cells(r) for r in table.rows))

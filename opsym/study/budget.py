@@ -58,7 +58,7 @@ from ..numeric._inputs import check_values
 from ..numeric.adc import ADC
 from ..numeric.params import REFERENCE_TEMPERATURE, OpAmpParams, ResistorParams
 from ..numeric.units import format_si
-from ..output.tables import Table
+from ..output.tables import Table, math_label
 from ._plan import (
     RSS_RULE,
     WORST_CASE_RULE,
@@ -180,6 +180,9 @@ class Budget(TableViews):
         ppm = x / fs * 1e6 if fs else None
         lsb = self.adc.lsbs(x) if self.adc else None
         return ppm, lsb
+
+    def _math_names(self) -> dict[str, str]:
+        return {r.label: math_label(r.source, r.label) for r in self.rows}
 
     def table(self):
         """The budget as an :class:`opsym.output.tables.Table`."""

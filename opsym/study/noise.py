@@ -28,7 +28,7 @@ from ..analyses.noise import PEAK_TO_PEAK_FACTOR, rms_and_error
 from ..errors import BudgetError, InvalidValueError, UnknownNameError
 from ..model.limits import check_band
 from ..output.noise import noise_table
-from ..output.tables import Table
+from ..output.tables import Table, math_label
 from ._views import TableViews
 
 __all__ = ["NoiseBudget", "NoiseRow", "noise_budget"]
@@ -66,6 +66,11 @@ class NoiseBudget(TableViews):
     def peak_to_peak(self) -> float:
         """``6.6 × total RMS``: see ``PEAK_TO_PEAK_RULE`` (common practice)."""
         return PEAK_TO_PEAK_FACTOR * self.total
+
+    def _math_names(self) -> dict[str, str]:
+        # A resistor's row is its thermal noise voltage, R1.en (e_{n,R1}).
+        return {r.name: math_label(r.name if "." in r.name else f"{r.name}.en")
+                for r in self.rows}  # fmt: skip
 
     def table(self) -> Table:
         """The budget as an :class:`opsym.output.tables.Table`."""

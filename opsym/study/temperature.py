@@ -95,6 +95,9 @@ class TemperatureSweep(TableViews):
         """Row names, largest first at the worst temperature."""
         return tuple(r.source for r in self.worst_budget.rows)
 
+    def _math_names(self) -> dict[str, str]:
+        return self.worst_budget._math_names()
+
     def table(self, top: int = 3):
         """Temperature, totals and the largest contributors, as a Table."""
 

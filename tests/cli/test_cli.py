@@ -17,7 +17,7 @@ import pytest
 from opsym.cli import main
 
 ROOT = Path(__file__).parents[2]
-EXAMPLES = sorted((ROOT / "docs" / "examples").glob("*.toml"))
+EXAMPLES = sorted((ROOT / "opsym" / "examples").glob("*.toml"))
 
 GOOD = """\
 title = "inverting"
@@ -63,7 +63,7 @@ def test_report_every_example(path):
 
 
 def test_report_writes_notes_and_figures(tmp_path):
-    design = ROOT / "docs" / "examples" / "difference-amplifier.toml"
+    design = ROOT / "opsym" / "examples" / "difference-amplifier.toml"
     run = opsym(
         "report", str(design), "--quiet",
         "--latex", str(tmp_path / "note.tex"), "--standalone",
@@ -191,7 +191,7 @@ def test_internal_faults_exit_1_with_a_bug_note(monkeypatch, capsys):
 
 # -- frequency response and noise ------------------------------------------------------------
 
-TIA = ROOT / "docs" / "examples" / "photodiode-transimpedance.toml"
+TIA = ROOT / "opsym" / "examples" / "photodiode-transimpedance.toml"
 
 TIA_BAD_BASE = """\
 output = "out"

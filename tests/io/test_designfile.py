@@ -15,7 +15,7 @@ from opsym.io.designfile import load_design, parse_design
 from opsym.model.elements import Capacitor, CurrentSource, OpAmp, Resistor
 from opsym.numeric.params import opamp_parameters
 
-EXAMPLES = sorted((Path(__file__).parents[2] / "docs" / "examples").glob("*.toml"))
+EXAMPLES = sorted((Path(__file__).parents[2] / "opsym" / "examples").glob("*.toml"))
 
 BASE = """\
 title = "inverting"

@@ -20,7 +20,7 @@ if sys.version_info >= (3, 11):
 else:  # Python 3.10: the backport
     import tomli as tomllib
 
-EXAMPLES = sorted((Path(__file__).parents[2] / "docs" / "examples").glob("*.toml"))
+EXAMPLES = sorted((Path(__file__).parents[2] / "opsym" / "examples").glob("*.toml"))
 
 
 def same_design(a, b):

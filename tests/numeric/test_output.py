@@ -41,11 +41,10 @@ def design():
 
 def test_figures_are_written(design, tmp_path):
     _, budget, _, _, study, sweep, _ = design
-    paths = [
-        figures.contribution_chart(budget, tmp_path / "bars.png"),
-        figures.temperature_chart(sweep, tmp_path / "temp.pdf"),
-        figures.monte_carlo_histogram(study, tmp_path / "mc.svg"),
-    ]
+    paths = [tmp_path / "bars.png", tmp_path / "temp.pdf", tmp_path / "mc.svg"]
+    figures.contribution_chart(budget, paths[0])  # each returns its Figure
+    figures.temperature_chart(sweep, paths[1])
+    figures.monte_carlo_histogram(study, paths[2])
     for p in paths:
         assert p.exists() and p.stat().st_size > 1000
     with pytest.raises(BudgetError, match=r"\.png"):
@@ -67,7 +66,8 @@ def test_markdown_note_has_every_section(design):
 
 def test_latex_note_compiles(design, tmp_path, pdflatex):
     res, budget, cond, pick, study, sweep, values = design
-    fig = figures.contribution_chart(budget, tmp_path / "bars.png")
+    fig = tmp_path / "bars.png"
+    figures.contribution_chart(budget, fig)
     tex = design_note(
         res,
         budget,

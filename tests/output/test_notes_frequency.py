@@ -55,9 +55,10 @@ def test_sections_reject_wrong_inputs(tia_noise):
 @pytest.fixture(scope="module")
 def tia_note_parts(tia, tia_noise, tmp_path_factory):
     d = tmp_path_factory.mktemp("tia_note")
-    bode = figures.bode_chart(tia, d / "bode.png")
-    error = figures.gain_error_chart(tia, d / "gain_error.png")
-    density = figures.noise_density_chart(tia_noise, d / "noise.png", top=2)
+    bode, error, density = d / "bode.png", d / "gain_error.png", d / "noise.png"
+    figures.bode_chart(tia, bode)  # each returns its Figure; the note takes the path
+    figures.gain_error_chart(tia, error)
+    figures.noise_density_chart(tia_noise, density, top=2)
     frequency = FrequencySection(tia, figures=[(bode, "Bode plot"), (error, "Gain error")])
     noise = NoiseSection(tia_noise, 1.0, 1e6, figures=[(density, "Output noise density")])
     return d, frequency, noise
