@@ -19,7 +19,14 @@ Examples
 """
 
 from .analyses.noise import NoiseResult
+from .analyses.noise_figure import (
+    circuit_noise_figure,
+    minimum_noise_figure,
+    noise_figure,
+    optimum_source_resistance,
+)
 from .analyses.result import Result, SourceInfo
+from .analyses.transfer import TransferFunction, transfer_function
 from .errors import (
     ArgumentTypeError,
     BudgetError,
@@ -120,6 +127,7 @@ __all__ = [
     "SingularCircuitError",
     "SourceInfo",
     "SupplyRejection",
+    "TransferFunction",
     "UnknownNameError",
     "ValueRangeError",
     "ValueSyntaxError",
@@ -127,15 +135,19 @@ __all__ = [
     "__version__",
     "budget_over_temperature",
     "choose_for_null",
+    "circuit_noise_figure",
     "corner_values",
     "design_note",
     "dump_design",
     "error_budget",
     "format_si",
     "load_design",
+    "minimum_noise_figure",
     "monte_carlo",
+    "noise_figure",
     "noise_latex",
     "opamp_parameters",
+    "optimum_source_resistance",
     "parse_design",
     "parse_quantity",
     "parse_value",
@@ -144,6 +156,7 @@ __all__ = [
     "resistor_parameters",
     "s",
     "tolerance_analysis",
+    "transfer_function",
     "transfer_latex",
     "write_netlist",
 ]

@@ -72,8 +72,9 @@ def test_average_bias_names_and_wrong_polarity():
     with pytest.raises(opsym.NoSolutionError, match="R7"):
         res.null(["U1.Vos", "Vref"], by="R7", values={"U1.Vos": "1m"})
     # Ib (averaged) is accepted as a source name in the sum
-    eq = _trim_stage().null(["U1.Vos", "U1.Ib", "Vref"], by="R7",
-                            values={"U1.Vos": "1m", "U1.Ib": "100n"})
+    eq = _trim_stage().null(
+        ["U1.Vos", "U1.Ib", "Vref"], by="R7", values={"U1.Vos": "1m", "U1.Ib": "100n"}
+    )
     ib = Fraction(100, 10**9)
     g, r2, r3, vos = Fraction(11), Fraction(100_000), Fraction(100), Fraction(1, 1000)
     expected = -r3 * (g * vos - 15 * g + ib * r2) / (g * vos - g * ib * r3 + ib * r2)

@@ -1,0 +1,161 @@
+"""Noise figure of an input stage against its source resistance, and the optimum resistance.
+
+The noise factor compares the total noise with the part the source's own
+resistance ``Rs`` makes (its thermal noise, ``4kT·Rs``); the noise figure is
+its decibel form. For an op-amp of voltage noise ``en`` and current noise
+``in`` (flowing through ``Rs``), with nothing else noisy,
+
+    NF(Rs) = 10·log10(1 + (en² + in²·Rs²)/(4kT·Rs)),
+
+smallest at ``Rs_opt = en/in``, where ``NF_min = 10·log10(1 + en·in/(2kT))``
+(Motchenbacher & Connelly, "Low-Noise Electronic System Design", ch. 2 [from
+memory]). :func:`circuit_noise_figure` takes every source of a
+:class:`~opsym.NoiseResult` instead: the circuit's own resistors, both current
+noises and the op-amp noise as the circuit weights them.
+
+The temperature is in °C, 25 °C unless given, as everywhere in opsym. The
+standard noise figure of radio practice refers to a source at 290 K
+(16.85 °C; IRE/IEEE definition [from memory]): pass ``temperature=16.85`` for it.
+
+Examples
+--------
+Invented op-amp noise, 4 nV/√Hz and 1 pA/√Hz:
+
+>>> import opsym
+>>> round(opsym.optimum_source_resistance("4n", "1p"), 6)
+4000.0
+>>> round(opsym.noise_figure("4k", "4n", "1p"), 4)
+1.7198
+>>> round(opsym.minimum_noise_figure("4n", "1p"), 4)
+1.7198
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import numpy as np
+
+from ..errors import InvalidValueError, NoSolutionError
+from ..model.elements import Resistor
+from ..model.limits import expect_text
+from ..numeric._inputs import read_number
+from .noise import BOLTZMANN, NoiseResult, kelvin
+
+__all__ = [
+    "circuit_noise_figure",
+    "minimum_noise_figure",
+    "noise_figure",
+    "optimum_source_resistance",
+]
+
+
+def _kt(temperature: Any) -> float:
+    return float(BOLTZMANN * kelvin(temperature))
+
+
+def _positive(value: Any, where: str, unit: str) -> float:
+    number = read_number(value, where, unit)
+    if number <= 0:
+        raise InvalidValueError(f"{where} must be above zero; got {value!r}")
+    return number
+
+
+def _non_negative(value: Any, where: str, unit: str) -> float:
+    number = read_number(value, where, unit)
+    if number < 0:
+        raise InvalidValueError(
+            f"{where} is a noise density and cannot be negative; got {value!r}"
+        )
+    return number
+
+
+def noise_figure(rs: Any, en: Any, in_: Any = 0, temperature: Any = 25) -> float:
+    """``10·log10(1 + (en² + in²·Rs²)/(4kT·Rs))``, dB: an op-amp's noise against ``Rs``.
+
+    Parameters
+    ----------
+    rs : number or text
+        Source resistance, Ω (``"10k"``).
+    en, in_ : number or text
+        Voltage noise (V/√Hz) and current noise (A/√Hz) densities.
+    temperature : number
+        Of the source resistance, °C.
+    """
+    r = _positive(rs, "noise_figure rs", "Ω")
+    e = _non_negative(en, "noise_figure en", "V")
+    i = _non_negative(in_, "noise_figure in_", "A")
+    return 10 * math.log10(1 + (e * e + (i * r) ** 2) / (4 * _kt(temperature) * r))
+
+
+def optimum_source_resistance(en: Any, in_: Any) -> float:
+    """``Rs_opt = en/in``, Ω: the source resistance of least noise figure."""
+    e = _positive(en, "optimum_source_resistance en", "V")
+    i = _non_negative(in_, "optimum_source_resistance in_", "A")
+    if i == 0:
+        raise NoSolutionError(
+            "with no current noise the noise figure falls for ever as Rs grows; "
+            "there is no optimum source resistance — give in_ > 0"
+        )
+    return e / i
+
+
+def minimum_noise_figure(en: Any, in_: Any, temperature: Any = 25) -> float:
+    """``NF_min = 10·log10(1 + en·in/(2kT))``, dB: the noise figure at ``Rs_opt``."""
+    e = _positive(en, "minimum_noise_figure en", "V")
+    i = _positive(in_, "minimum_noise_figure in_", "A")
+    return 10 * math.log10(1 + e * i / (2 * _kt(temperature)))
+
+
+def circuit_noise_figure(
+    noise: NoiseResult,
+    source: str,
+    f: Any = None,
+    band: tuple[Any, Any] | None = None,
+) -> Any:
+    """Noise figure, dB, of a circuit whose signal enters through resistor ``source``.
+
+    ``10·log10(total output noise / output noise of source alone)``, in power:
+    at frequencies ``f`` (Hz, a number or an array: the spot noise figure) or
+    over ``band = (f_low, f_high)`` (the integrated one). The source resistor's
+    noise is at the noise result's temperature.
+
+    Examples
+    --------
+    A follower fed through Rs = 4 kΩ, the op-amp of the module example: the
+    circuit gives the formula, since only ``en`` and ``in+`` reach the output.
+
+    >>> import opsym
+    >>> c = opsym.Circuit("follower")
+    >>> c.voltage_source("Vs", "s", "0")
+    >>> c.resistor("Rs", "s", "p", value="4k")
+    >>> c.opamp("U1", plus="p", minus="out", out="out", bias=False)
+    >>> n = c.noise("out", values={"U1.en": "4n", "U1.in": "1p"})
+    >>> round(float(opsym.circuit_noise_figure(n, "Rs", f=1e3)), 4)
+    1.7198
+    """
+    if not isinstance(noise, NoiseResult):
+        raise InvalidValueError("circuit_noise_figure: give the NoiseResult of circuit.noise(...)")
+    expect_text(source, "circuit_noise_figure source", "'Rs'")
+    element = noise.circuit.element(source)
+    if not isinstance(element, Resistor):
+        raise InvalidValueError(
+            f"circuit_noise_figure: {source} is a {element.kind}; name the resistor "
+            "that is the signal source's resistance"
+        )
+    if (f is None) == (band is None):
+        raise InvalidValueError(
+            "circuit_noise_figure: give either f= (spot) or band=(f_low, f_high)"
+        )
+    if band is not None:
+        total = noise.rms(band[0], band[1])
+        own = noise.rms(band[0], band[1], name=source)
+        if own == 0:
+            raise NoSolutionError(f"the noise of {source} does not reach the output in the band")
+        return 10 * math.log10((total / own) ** 2)
+    total_d = noise.density(f)
+    own_d = noise.contribution(source, f)
+    if np.any(own_d == 0):
+        raise NoSolutionError(f"the noise of {source} does not reach the output at some f")
+    return 10 * np.log10((total_d / own_d) ** 2)
