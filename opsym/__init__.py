@@ -21,6 +21,7 @@ Examples
 from .analyses.noise import NoiseResult
 from .analyses.noise_figure import (
     circuit_noise_figure,
+    circuit_optimum_source_resistance,
     minimum_noise_figure,
     noise_figure,
     optimum_source_resistance,
@@ -136,6 +137,7 @@ __all__ = [
     "budget_over_temperature",
     "choose_for_null",
     "circuit_noise_figure",
+    "circuit_optimum_source_resistance",
     "corner_values",
     "design_note",
     "dump_design",

@@ -99,3 +99,24 @@ def test_circuit_refusals():
         opsym.circuit_noise_figure(n, "Vs", f=1e3)
     with pytest.raises(opsym.UnknownNameError):
         opsym.circuit_noise_figure(n, "Rx", f=1e3)
+
+
+def test_circuit_optimum_with_feedback_resistors():
+    """NF ∝ (A + in²·Rs²)/Rs with A = en² + in²·Rp² + 4kT·Rp, least at Rs = √A/in [derived]."""
+    c = opsym.Circuit("gain of two")
+    c.voltage_source("Vs", "s", "0")
+    c.resistor("Rs", "s", "p")
+    c.resistor("R1", "n", "0", value="1k")
+    c.resistor("R2", "n", "out", value="1k")
+    c.opamp("U1", plus="p", minus="n", out="out", bias=False)
+    n = c.noise("out", values={"U1.en": EN, "U1.in": IN})
+    rp = 500.0
+    a = EN**2 + (IN * rp) ** 2 + 4 * K * T * rp
+    expected = math.sqrt(a) / IN
+    found = opsym.circuit_optimum_source_resistance(n, "Rs", f=1e3)
+    assert found == pytest.approx(expected, rel=1e-6)
+    assert found > opsym.optimum_source_resistance(EN, IN)  # the resistors move it up
+    with pytest.raises(opsym.NoSolutionError, match="bound"):
+        opsym.circuit_optimum_source_resistance(n, "Rs", f=1e3, bounds=(1, 1e3))
+    with pytest.raises(opsym.InvalidValueError, match="without a value"):
+        opsym.circuit_optimum_source_resistance(_follower("1k"), "Rs", f=1e3)

@@ -45,6 +45,7 @@ from .noise import BOLTZMANN, NoiseResult, kelvin
 
 __all__ = [
     "circuit_noise_figure",
+    "circuit_optimum_source_resistance",
     "minimum_noise_figure",
     "noise_figure",
     "optimum_source_resistance",
@@ -159,3 +160,68 @@ def circuit_noise_figure(
     if np.any(own_d == 0):
         raise NoSolutionError(f"the noise of {source} does not reach the output at some f")
     return 10 * np.log10((total_d / own_d) ** 2)
+
+
+def circuit_optimum_source_resistance(
+    noise: NoiseResult, source: str, f: Any, bounds: tuple[Any, Any] = ("1", "1G")
+) -> float:
+    """The value of resistor ``source`` (Ω) of least spot noise figure at ``f`` Hz.
+
+    ``source`` must be left without a value in the noise result; the search
+    (golden section in ``ln Rs``, to 1e-9) runs over ``bounds`` and raises
+    :class:`~opsym.NoSolutionError` when the least value lies on a bound. With
+    the circuit's own resistors it differs from ``en/in``.
+
+    Examples
+    --------
+    >>> import opsym
+    >>> c = opsym.Circuit("follower")
+    >>> c.voltage_source("Vs", "s", "0")
+    >>> c.resistor("Rs", "s", "p")
+    >>> c.opamp("U1", plus="p", minus="out", out="out", bias=False)
+    >>> n = c.noise("out", values={"U1.en": "4n", "U1.in": "1p"})
+    >>> round(opsym.circuit_optimum_source_resistance(n, "Rs", f=1e3))  # en/in
+    4000
+    """
+    expect_text(source, "circuit_optimum_source_resistance source", "'Rs'")
+    sym = noise.circuit.symbol(source)
+    element = noise.circuit.element(source)
+    if not isinstance(element, Resistor) or element.value != sym or sym in noise._values:
+        raise InvalidValueError(
+            f"circuit_optimum_source_resistance: {source} must be a resistor without a "
+            "value (c.resistor(name, a, b) and no values= entry) so it can be varied"
+        )
+    freq = _positive(f, "circuit_optimum_source_resistance f", "Hz")
+    lo = math.log(_positive(bounds[0], "circuit_optimum_source_resistance bounds", "Ω"))
+    hi = math.log(_positive(bounds[1], "circuit_optimum_source_resistance bounds", "Ω"))
+    if not lo < hi:
+        raise InvalidValueError("circuit_optimum_source_resistance: bounds must be (low, high)")
+
+    def nf(x: float) -> float:
+        return float(circuit_noise_figure(noise.subs({sym: math.exp(x)}), source, f=freq))
+
+    best = _golden_minimum(nf, lo, hi)
+    if min(best - lo, hi - best) < 1e-6 * (hi - lo):
+        raise NoSolutionError(
+            f"the noise figure keeps falling toward {source} = {math.exp(best):.4g} Ω, a bound "
+            "of the search; widen bounds= or check the op-amp's current noise"
+        )
+    return math.exp(best)
+
+
+def _golden_minimum(fn: Any, lo: float, hi: float, tol: float = 1e-9) -> float:
+    """The minimum of a unimodal ``fn`` on ``[lo, hi]`` by golden-section search."""
+    ratio = (math.sqrt(5) - 1) / 2
+    a, b = lo, hi
+    c, d = b - ratio * (b - a), a + ratio * (b - a)
+    fc, fd = fn(c), fn(d)
+    while b - a > tol:
+        if fc < fd:
+            b, d, fd = d, c, fc
+            c = b - ratio * (b - a)
+            fc = fn(c)
+        else:
+            a, c, fc = c, d, fd
+            d = a + ratio * (b - a)
+            fd = fn(d)
+    return 0.5 * (a + b)
