@@ -148,9 +148,7 @@ def derive(
     )
 
 
-def coefficients_of(
-    eqs, z: list[sp.Expr], sources: list[SourceInfo]
-) -> dict[sp.Symbol, sp.Expr]:
+def coefficients_of(eqs, z: list[sp.Expr], sources: list[SourceInfo]) -> dict[sp.Symbol, sp.Expr]:
     """Each source's coefficient: the dot product of ``z`` with its stamps."""
     coefficients: dict[sp.Symbol, sp.Expr] = {}
     for info in sources:

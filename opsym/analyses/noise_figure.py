@@ -37,9 +37,9 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import InvalidValueError, NoSolutionError
+from ..errors import ArgumentTypeError, InvalidValueError, NoSolutionError
 from ..model.elements import Resistor
-from ..model.limits import expect_text
+from ..model.limits import check_frequencies, expect_text, shown
 from ..numeric._inputs import read_number
 from .noise import BOLTZMANN, NoiseResult, kelvin
 
@@ -53,13 +53,14 @@ __all__ = [
 
 
 def _kt(temperature: Any) -> float:
-    return float(BOLTZMANN * kelvin(temperature))
+    celsius = read_number(temperature, "noise figure temperature (°C)")
+    return float(BOLTZMANN * kelvin(celsius))
 
 
 def _positive(value: Any, where: str, unit: str) -> float:
     number = read_number(value, where, unit)
     if number <= 0:
-        raise InvalidValueError(f"{where} must be above zero; got {value!r}")
+        raise InvalidValueError(f"{where} must be above zero; got {shown(value)}")
     return number
 
 
@@ -67,7 +68,7 @@ def _non_negative(value: Any, where: str, unit: str) -> float:
     number = read_number(value, where, unit)
     if number < 0:
         raise InvalidValueError(
-            f"{where} is a noise density and cannot be negative; got {value!r}"
+            f"{where} is a noise density and cannot be negative; got {shown(value)}"
         )
     return number
 
@@ -150,16 +151,30 @@ def circuit_noise_figure(
             "circuit_noise_figure: give either f= (spot) or band=(f_low, f_high)"
         )
     if band is not None:
+        if not isinstance(band, (tuple, list)) or len(band) != 2:
+            raise ArgumentTypeError(
+                f"circuit_noise_figure band: give (f_low, f_high) in Hz, not {shown(band)}"
+            )
         total = noise.rms(band[0], band[1])
         own = noise.rms(band[0], band[1], name=source)
         if own == 0:
             raise NoSolutionError(f"the noise of {source} does not reach the output in the band")
         return 10 * math.log10((total / own) ** 2)
+    check_frequencies(f, "circuit_noise_figure f")
+    if not np.all(np.isfinite(np.asarray(f, dtype=float))) or np.any(np.asarray(f, float) == 0):
+        raise InvalidValueError("circuit_noise_figure: f must be finite and above 0 Hz")
     total_d = noise.density(f)
     own_d = noise.contribution(source, f)
     if np.any(own_d == 0):
         raise NoSolutionError(f"the noise of {source} does not reach the output at some f")
-    return 10 * np.log10((total_d / own_d) ** 2)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        ratio = (total_d / own_d) ** 2
+    if not np.all(np.isfinite(ratio) & (ratio >= 1 - 1e-9)):  # total ≥ own, but for rounding
+        raise NoSolutionError(
+            "circuit_noise_figure: the noise densities underflow or overflow at some f "
+            "(floating point); give frequencies within the circuit's range"
+        )
+    return 10 * np.log10(np.maximum(ratio, 1.0))
 
 
 def circuit_optimum_source_resistance(
@@ -190,6 +205,10 @@ def circuit_optimum_source_resistance(
         raise InvalidValueError(
             f"circuit_optimum_source_resistance: {source} must be a resistor without a "
             "value (c.resistor(name, a, b) and no values= entry) so it can be varied"
+        )
+    if not isinstance(bounds, (tuple, list)) or len(bounds) != 2:
+        raise ArgumentTypeError(
+            f"circuit_optimum_source_resistance bounds: give (low, high) in Ω, not {shown(bounds)}"
         )
     freq = _positive(f, "circuit_optimum_source_resistance f", "Hz")
     lo = math.log(_positive(bounds[0], "circuit_optimum_source_resistance bounds", "Ω"))

@@ -34,7 +34,7 @@ from typing import Any
 import numpy as np
 import sympy as sp
 
-from ..errors import InvalidValueError, MissingDependencyError, NoSolutionError
+from ..errors import ArgumentTypeError, InvalidValueError, MissingDependencyError, NoSolutionError
 from ..model.limits import check_float, shown
 from ..model.symbols import LAPLACE
 from ..numeric.lti import poly_roots, settling_time, step_response
@@ -108,7 +108,7 @@ class TransferFunction:
         >>> round(float(h.step_response(1.0)), 12)  # 1 − 1/e
         0.632120558829
         """
-        return step_response(self._num, self._den, t)
+        return step_response(self._num, self._den, _times(t))
 
     def settling_time(self, accuracy: float = 0.001) -> float:
         """Time (s) after which the step response stays within ``±accuracy`` of its final value.
@@ -174,3 +174,21 @@ def transfer_function(result: Result, source: str | sp.Symbol | None = None) -> 
     numerator = [float(c / lead) for c in num_p.all_coeffs()]
     denominator = [float(c / lead) for c in den_p.all_coeffs()]
     return TransferFunction(h, numerator, denominator, str(sym))
+
+
+def _times(t: Any) -> np.ndarray:
+    """``t`` (seconds, a number or an array) as floats, each finite and at least 0."""
+    if isinstance(t, (str, bytes, bool)) or t is None:
+        raise ArgumentTypeError(
+            f"step_response: expected times in seconds as numbers (a number or an array), "
+            f"not {shown(t)}"
+        )
+    try:
+        times = np.asarray(t, dtype=float)
+    except (TypeError, ValueError, OverflowError):
+        raise ArgumentTypeError(
+            f"step_response: expected times in seconds as numbers, not {shown(t)}"
+        ) from None
+    if not np.all(np.isfinite(times)) or np.any(times < 0) or np.any(times > 1e150):
+        raise InvalidValueError("step_response: times must be finite numbers of at least 0 s")
+    return times
