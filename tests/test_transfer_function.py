@@ -128,3 +128,39 @@ def test_integrator_has_no_settling_time():
     assert np.allclose(h.step_response(t), -t / 1e-4, rtol=1e-12)  # −t/(R·C) [textbook]
     with pytest.raises(opsym.NoSolutionError, match="no final value"):
         h.settling_time()
+
+
+def test_critically_damped_double_pole():
+    """Q = 0.5 (equal R, equal C): double pole at −1/τ; step 1 − (1 + t/τ)·e^(−t/τ) [textbook]."""
+    c = opsym.Circuit("critically damped Sallen-Key")
+    c.voltage_source("Vin", "in", "0")
+    c.resistor("R1", "in", "a", value="10k")
+    c.resistor("R2", "a", "p", value="10k")
+    c.capacitor("C1", "a", "out", value="10n")
+    c.capacitor("C2", "p", "0", value="10n")
+    c.opamp("U1", plus="p", minus="out", out="out")
+    h = opsym.transfer_function(c.analyze("out", domain="s"))
+    tau = 1e-4
+    assert np.allclose(h.denominator, [1, 2 / tau, 1 / tau**2], rtol=1e-14)
+    t = np.linspace(0, 12 * tau, 49)
+    expected = 1 - (1 + t / tau) * np.exp(-t / tau)
+    assert np.allclose(h.step_response(t), expected, rtol=0, atol=1e-12)
+    # settling to 0.1 %: (1 + x)·e^(−x) = 0.001, solved here by Newton (independent)
+    x = 9.0
+    for _ in range(50):
+        x -= ((1 + x) * math.exp(-x) - 0.001) / (-x * math.exp(-x))
+    assert h.settling_time(0.001) == pytest.approx(x * tau, rel=1e-9)
+
+
+def test_widely_spread_poles_to_rounding():
+    """Poles at −1, −1e4, −1e8 rad/s: the step against its partial fractions [textbook]."""
+    from opsym.numeric.lti import step_response
+
+    poles = (1.0, 1e4, 1e8)
+    t = np.array([1e-9, 1e-6, 1e-4, 1e-2, 1.0, 5.0])
+    expected = np.ones_like(t)
+    for i, p in enumerate(poles):
+        r = np.prod([q / (q - p) for j, q in enumerate(poles) if j != i])
+        expected -= r * np.exp(-p * t)
+    den = np.poly([-p for p in poles])
+    assert np.allclose(step_response([1e12], den, t), expected, rtol=0, atol=1e-14)

@@ -1,7 +1,8 @@
 """A rational H(s) in numbers: poles, zeros, step response and settling time, NumPy only.
 
-The step response comes from the matrix exponential of the controllable
-companion form, augmented by the step input,
+The step response is a sum of partial fractions where the poles are simple
+and apart (exact to rounding whatever their spread), and otherwise the matrix
+exponential of the controllable companion form, augmented by the step input,
 
     M = [[A, B], [0, 0]],   exp(M·t) = [[exp(A·t), ∫₀ᵗ exp(A·τ)dτ·B], [0, 1]],
 
@@ -21,6 +22,8 @@ A first-order low-pass, τ = 1 ms, settles to 0.1 % in τ·ln(1000):
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
+from typing import Any
 
 import numpy as np
 
@@ -101,17 +104,52 @@ def step_response(num: np.ndarray, den: np.ndarray, t: np.ndarray) -> np.ndarray
     >>> [round(float(v), 12) for v in y]  # 1 − e^(−t)
     [0.0, 0.632120558829]
     """
-    m, c, d, w = _step_system(num, den)
     times = np.asarray(t, dtype=float)
     if np.any(times < 0) or not np.all(np.isfinite(times)):
         raise NoSolutionError("step_response: times must be finite and ≥ 0 (seconds)")
-    n = c.size
-    out = np.empty(times.shape)
+    response, w = _step_function(num, den)
     with np.errstate(over="ignore", invalid="ignore"):  # an unstable H grows without bound
-        for index, ti in np.ndenumerate(times):
-            x = expm(m * (ti * w))[:n, n] if n else np.zeros(0)
-            out[index] = float(c @ x) + d
-    return out
+        return response(times.ravel() * w).reshape(times.shape)
+
+
+def _step_function(num: Any, den: Any) -> tuple[Callable[[np.ndarray], np.ndarray], float]:
+    """The step response as a function of scaled time ``w·t``, and ``w``.
+
+    Partial fractions where the poles are simple, apart and not at zero
+    (``y = H(0) + Σ R_i·e^(p_i·τ)/p_i``, exact to rounding whatever the spread
+    of the poles); the matrix exponential otherwise.
+    """
+    b, a, w = _scaled(num, den)
+    poles = poly_roots(a)
+    if poles.size and _apart(poles):
+        residues = np.polyval(b, poles) / np.polyval(np.polyder(a), poles)
+        weights = residues / poles
+        h0 = b[-1] / a[-1]
+
+        def partial_fractions(tau: np.ndarray) -> np.ndarray:
+            terms = np.exp(np.multiply.outer(tau, poles)) @ weights
+            return np.real(h0 + terms)
+
+        return partial_fractions, w
+    m, c, d, _ = _step_system(num, den)
+    n = c.size
+
+    def exponential(tau: np.ndarray) -> np.ndarray:
+        out = np.empty(tau.shape)
+        for index, ti in np.ndenumerate(tau):
+            out[index] = (float(c @ expm(m * ti)[:n, n]) if n else 0.0) + d
+        return out
+
+    return exponential, w
+
+
+def _apart(poles: np.ndarray) -> bool:
+    """Every pole non-zero and at least 1e-4 (relative) from every other."""
+    mags = np.abs(poles)
+    if np.min(mags) == 0:
+        return False
+    gaps = np.abs(np.subtract.outer(poles, poles)) + np.eye(poles.size) * np.max(mags)
+    return bool(np.all(gaps >= 1e-4 * np.maximum.outer(mags, mags)))
 
 
 def settling_time(num: np.ndarray, den: np.ndarray, accuracy: float = 0.001) -> float:
@@ -135,40 +173,23 @@ def settling_time(num: np.ndarray, den: np.ndarray, accuracy: float = 0.001) -> 
             "the final value is empty"
         )
     band = accuracy * abs(final)
-    m, c, d, w = _step_system(num, den)
+    response, w = _step_function(num, den)
     slowest = float(np.min(-poles.real)) / w if poles.size else 1.0
     fastest = float(np.max(np.abs(poles))) / w if poles.size else 1.0
     horizon = (math.log(1 / accuracy) + 10.0) / slowest  # scaled time
     while True:
         steps = int(min(2e5, max(2000, 40 * horizon * fastest)))
-        dt = horizon / steps
-        error = _response_on_grid(m, c, d, dt, steps) - final
-        outside = np.nonzero(np.abs(error) > band)[0]
+        grid = np.linspace(0.0, horizon, steps + 1)
+        outside = np.nonzero(np.abs(response(grid) - final) > band)[0]
         if outside.size == 0:
             return 0.0
         last = int(outside[-1])
         if last < steps - steps // 10:
             break
         horizon *= 2
-    lo, hi = last * dt, (last + 1) * dt
-
-    def off(tau: float) -> float:
-        return abs(float(c @ expm(m * tau)[: c.size, c.size]) + d - final) - band
-
+    lo, hi = float(grid[last]), float(grid[last + 1])
     for _ in range(80):  # bisection on the last crossing
         mid = 0.5 * (lo + hi)
-        lo, hi = (mid, hi) if off(mid) > 0 else (lo, mid)
+        outside_mid = abs(float(response(np.array([mid]))[0]) - final) > band
+        lo, hi = (mid, hi) if outside_mid else (lo, mid)
     return 0.5 * (lo + hi) / w
-
-
-def _response_on_grid(m: np.ndarray, c: np.ndarray, d: float, dt: float, steps: int) -> np.ndarray:
-    """The response at ``k·dt``, k = 0…steps, by repeated multiplication with ``exp(M·dt)``."""
-    n = c.size
-    phi = expm(m * dt)
-    z = np.zeros(n + 1)
-    z[n] = 1.0
-    out = np.empty(steps + 1)
-    for k in range(steps + 1):
-        out[k] = float(c @ z[:n]) + d
-        z = phi @ z
-    return out
