@@ -18,6 +18,7 @@ Examples
 <class 'opsym.model.circuit.Circuit'>
 """
 
+from .analyses.loop import LoopGain, loop_gain
 from .analyses.noise import NoiseResult
 from .analyses.noise_figure import (
     circuit_noise_figure,
@@ -26,6 +27,7 @@ from .analyses.noise_figure import (
     noise_figure,
     optimum_source_resistance,
 )
+from .analyses.ports import PortImpedance, input_impedance, output_impedance
 from .analyses.result import Result, SourceInfo
 from .analyses.transfer import TransferFunction, transfer_function
 from .errors import (
@@ -76,6 +78,7 @@ from .numeric import (
     preferred_value,
     resistor_parameters,
 )
+from .numeric.stability import Margins
 from .output import FrequencySection, NoiseSection, design_note
 from .output.latex import transfer_latex
 from .output.noise import noise_latex
@@ -110,6 +113,8 @@ __all__ = [
     "FrequencySection",
     "InputOffset",
     "InvalidValueError",
+    "LoopGain",
+    "Margins",
     "MissingDependencyError",
     "NoFeedbackError",
     "NoSolutionError",
@@ -121,6 +126,7 @@ __all__ = [
     "OpsymError",
     "PinAdmittance",
     "PinCurrent",
+    "PortImpedance",
     "ResistorParams",
     "Result",
     "SeriesVoltage",
@@ -143,13 +149,16 @@ __all__ = [
     "dump_design",
     "error_budget",
     "format_si",
+    "input_impedance",
     "load_design",
+    "loop_gain",
     "minimum_noise_figure",
     "monte_carlo",
     "noise_figure",
     "noise_latex",
     "opamp_parameters",
     "optimum_source_resistance",
+    "output_impedance",
     "parse_design",
     "parse_quantity",
     "parse_value",

@@ -41,6 +41,7 @@ from .io import designfile  # called as designfile.load_design, so tests can sta
 from .io.spice import write_netlist
 from .io.writer import dump_design
 from .output.report import FigurePlan, figure_plans, study_note
+from .output.stability import stability_warnings
 from .output.summary import summary_text
 from .study.design import run_design
 
@@ -245,6 +246,8 @@ def _report(args: argparse.Namespace) -> int:
         if progress is not None:
             progress.close()
     for warning in study.operating.warnings if study.operating is not None else ():
+        print(f"opsym: warning: {_source(study)}: {warning}", file=sys.stderr)
+    for warning in stability_warnings(study.stability):
         print(f"opsym: warning: {_source(study)}: {warning}", file=sys.stderr)
     if not args.quiet:
         sys.stdout.write(summary_text(study))

@@ -77,6 +77,7 @@ from .errors import InvalidValueError, ValueRangeError, ValueSyntaxError
 
 __all__ = [
     "MAX_DEPTH",
+    "MAX_EXPONENT",
     "MAX_LENGTH",
     "PREFIXES",
     "UNITS",
@@ -91,6 +92,8 @@ MAX_DEPTH = 40
 _MAX_EXPONENT = 99
 #: Magnitudes outside 10**-_MAX_MAGNITUDE .. 10**_MAX_MAGNITUDE are refused (floats stay finite).
 _MAX_MAGNITUDE = 150
+#: The same limit, public: every layer that checks a number uses it.
+MAX_EXPONENT = _MAX_MAGNITUDE
 #: A value in dB beyond ±_MAX_DB is refused: its ratio keeps to the same range.
 _MAX_DB = 20 * _MAX_MAGNITUDE
 _HUGE = Fraction(10) ** _MAX_MAGNITUDE
@@ -615,18 +618,26 @@ def to_exact(value: Any, where: str, *, unit: str | None = None) -> sp.Expr:
         if value.has(sp.nan, sp.zoo, sp.oo, -sp.oo):
             raise InvalidValueError(f"{where}: value {value} is not finite; give a finite value")
         if isinstance(value, sp.Float):
-            return sp.Rational(repr(float(value)))
+            return _exact_float(float(value), where)
         return value
-    if isinstance(value, int):
-        return sp.Integer(value)
-    if isinstance(value, Fraction):
-        return sp.Rational(value.numerator, value.denominator)
+    if isinstance(value, (int, Fraction)):
+        q = Fraction(value)
+        if q and not _TINY <= abs(q) <= _HUGE:  # before SymPy reads a huge integer as text
+            raise InvalidValueError(f"{where}: the number is out of range; give {_RANGE}")
+        return sp.Rational(q.numerator, q.denominator)
     if isinstance(value, Real):  # float, numpy scalars
-        x = float(value)
-        if not math.isfinite(x):
-            raise InvalidValueError(f"{where}: value {x} is not finite; give a finite number")
-        return sp.Rational(repr(x))
+        return _exact_float(float(value), where)
     raise InvalidValueError(
         f"{where}: cannot use a {type(value).__name__} as a value; "
         "give a number, a SymPy expression or text such as '10k'"
     )
+
+
+def _exact_float(x: float, where: str) -> sp.Rational:
+    """The exact rational of a float's shortest decimal form, finite and in range."""
+    if not math.isfinite(x):
+        raise InvalidValueError(f"{where}: value {x} is not finite; give a finite number")
+    exact = sp.Rational(repr(x))
+    if exact and not _in_range(exact):
+        raise InvalidValueError(f"{where}: {x!r} is out of range; give {_RANGE}")
+    return exact

@@ -11,7 +11,8 @@ ROOT = Path(__file__).resolve().parents[1]
 
 
 @pytest.mark.parametrize(
-    "doc", ["README.md", "docs/getting-started.md", "docs/frequency-and-noise.md"]
+    "doc",
+    ["README.md", "docs/getting-started.md", "docs/frequency-and-noise.md", "docs/stability.md"],
 )
 def test_python_examples_run(doc):
     text = (ROOT / doc).read_text(encoding="utf-8")

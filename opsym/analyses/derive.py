@@ -29,6 +29,7 @@ from ..model.elements import CurrentSource, OpAmp, VoltageSource
 from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, OPAMP_PARAMETERS, source_symbol
 from ..model.topology import check_topology
+from .branch import current_name, current_weights
 from .result import Result, SourceInfo
 
 __all__ = [
@@ -83,14 +84,30 @@ def _known_symbols(circuit: Circuit) -> dict[str, sp.Symbol]:
     return known
 
 
-def output_weights(circuit: Circuit, output, index: dict[str, int]) -> tuple[dict, Any]:
+def output_weights(
+    circuit: Circuit,
+    output,
+    index: dict[str, int],
+    values: Mapping[sp.Symbol, sp.Expr] | None = None,
+    domain: str = "dc",
+) -> tuple[dict, Any]:
+    """The output as weights on the unknowns, and its label.
+
+    A node, a ``(plus, minus)`` pair, or a branch current ``"I(name)"``
+    (:mod:`opsym.analyses.branch`).
+    """
+    element = current_name(output)
+    if element is not None:
+        branch = current_weights(circuit, element, index, values or {}, domain)
+        return branch, f"I({circuit.element(element).name})"
     if isinstance(output, str):
         pair = (circuit.node(output), GROUND)
     elif isinstance(output, (tuple, list)) and len(output) == 2:
         pair = (circuit.node(output[0]), circuit.node(output[1]))
     else:
         raise UnknownNameError(
-            f"output {shown(output)}: give a node name or a (plus, minus) pair of node names"
+            f"output {shown(output)}: give a node name, a (plus, minus) pair of node names "
+            "or a branch current such as 'I(R1)'"
         )
     if pair[0] == pair[1]:
         raise InvalidValueError(f"output {output!r}: both sides are node {pair[0]!r}")
@@ -135,16 +152,16 @@ def derive(
     check_topology(circuit, domain)
     fixed = resolve_values(circuit, values)
     eqs = build_equations(circuit, fixed, domain=domain)
-    weights, label = output_weights(circuit, output, eqs.index)
+    weights, label = output_weights(circuit, output, eqs.index, fixed, domain)
     z = solve_adjoint(eqs, weights, progress=progress)
     sources = sources_of(circuit)
     return Result(
-        circuit=circuit,
-        output=label,
-        coefficients=coefficients_of(eqs, z, sources),
-        sources=tuple(sources),
-        fixed=fixed,
-        domain=domain,
+        _circuit=circuit,
+        _output=label,
+        _coefficients=coefficients_of(eqs, z, sources),
+        _sources=tuple(sources),
+        _fixed=fixed,
+        _domain=domain,
     )
 
 

@@ -61,6 +61,7 @@ from ..numeric.frequency import (
     natural_frequencies,
 )
 from ..values import to_exact
+from .branch import current_name
 from .derive import coefficients_of, output_weights, resolve_values, sources_of
 from .present import transfer_form
 from .result import SourceInfo
@@ -121,11 +122,16 @@ def noise(
     progress: Any = None,
 ) -> NoiseResult:
     """Build the :class:`NoiseResult` of ``circuit`` at ``output`` (see the module)."""
+    if current_name(output) is not None:
+        raise InvalidValueError(
+            f"noise at {output}: noise densities are in V/√Hz, so a branch current has "
+            "none yet; take the noise of the voltage across a resistor that carries it"
+        )
     check_topology(circuit, "s")
     t_kelvin = kelvin(temperature)
     fixed = resolve_values(circuit, values)
     eqs = build_equations(circuit, fixed, domain="s", thermal=True)
-    weights, label = output_weights(circuit, output, eqs.index)
+    weights, label = output_weights(circuit, output, eqs.index, fixed, "s")
     z = solve_adjoint(eqs, weights, progress=progress)
     signals = [i for i in sources_of(circuit) if i.kind == "signal"]
     noisy = sources_of(circuit, noise=True)

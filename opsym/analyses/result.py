@@ -26,8 +26,9 @@ Eq(Rs, R1*R2/(R1 + R2))
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 import sympy as sp
@@ -64,57 +65,39 @@ class SourceInfo:
     value: sp.Expr
 
 
+@dataclass(frozen=True, eq=False, kw_only=True)
 class Result(FrequencyResponse):
     """Every source's coefficient at one output of one circuit.
 
-    Build it with :meth:`opsym.Circuit.analyze`. It never changes: every
-    method that alters something returns a new ``Result``.
+    Build it with :meth:`opsym.Circuit.analyze`. It never changes: a frozen
+    dataclass whose every method that alters something returns a new
+    ``Result``. Its fields are private; the properties below read them. Two
+    results are equal only when they are the same object.
     """
 
-    __slots__ = (
-        "_averaged",
-        "_circuit",
-        "_coefficients",
-        "_domain",
-        "_fixed",
-        "_memo",
-        "_output",
-        "_post",
-        "_readable",
-        "_root",
-        "_sources",
-        "_substituted",
-        "_terms",
-    )
+    _circuit: Circuit
+    _output: Any
+    _coefficients: Mapping[sp.Symbol, sp.Expr]
+    _sources: tuple[SourceInfo, ...]
+    _fixed: Mapping[sp.Symbol, sp.Expr]
+    _post: Mapping[sp.Symbol, sp.Expr] = field(default_factory=dict)
+    _averaged: bool = False
+    _substituted: bool = False
+    _domain: str = "dc"
+    # The result before any subs (its coefficients, these values): the ideal and
+    # DC forms are taken from it, once.
+    _root: Result | None = None
+    # Caches, filled on request; they never change what the result means.
+    _terms: dict[sp.Symbol, sp.Expr] | None = field(default=None, init=False, repr=False)
+    _readable: dict[sp.Symbol, sp.Expr] = field(default_factory=dict, init=False, repr=False)
+    _memo: dict[Any, Any] = field(default_factory=dict, init=False, repr=False)
 
-    def __init__(
-        self,
-        circuit: Circuit,
-        output: Any,
-        coefficients: Mapping[sp.Symbol, sp.Expr],
-        sources: tuple[SourceInfo, ...],
-        fixed: Mapping[sp.Symbol, sp.Expr],
-        post: Mapping[sp.Symbol, sp.Expr] | None = None,
-        averaged: bool = False,
-        substituted: bool = False,
-        domain: str = "dc",
-        root: Result | None = None,
-    ) -> None:
-        self._circuit = circuit
-        self._domain = domain
-        self._output = output
-        self._coefficients = dict(coefficients)
-        self._sources = tuple(sources)
-        self._fixed = dict(fixed)
-        self._post = dict(post or {})
-        self._averaged = averaged
-        self._substituted = substituted
-        self._terms: dict[sp.Symbol, sp.Expr] | None = None
-        self._readable: dict[sp.Symbol, sp.Expr] = {}
-        # The result before any subs (its coefficients, these values): the ideal and
-        # DC forms are taken from it, once. Results it derived, by request (a cache).
-        self._root = root
-        self._memo: dict[Any, Any] = {}
+    def __post_init__(self) -> None:
+        # Own copies: what the caller passed may change later, the result may not.
+        object.__setattr__(self, "_coefficients", dict(self._coefficients))
+        object.__setattr__(self, "_sources", tuple(self._sources))
+        object.__setattr__(self, "_fixed", dict(self._fixed))
+        object.__setattr__(self, "_post", dict(self._post or {}))
 
     # -- what was derived ---------------------------------------------------------
 
@@ -163,10 +146,12 @@ class Result(FrequencyResponse):
         :meth:`simplify` give the form collected over one denominator.
         """
         if self._terms is None:
-            if self._substituted:
-                self._terms = {s: self.coefficient(s) for s in self._coefficients}
-            else:
-                self._terms = dict(self._coefficients)
+            terms = (
+                {s: self.coefficient(s) for s in self._coefficients} if self._substituted
+                else dict(self._coefficients)
+            )  # fmt: skip
+            object.__setattr__(self, "_terms", terms)
+        assert self._terms is not None
         return dict(self._terms)  # a copy: the result itself never changes
 
     def simplify(self) -> Result:
@@ -586,20 +571,8 @@ class Result(FrequencyResponse):
     # -- helpers ---------------------------------------------------------------------
 
     def _replace(self, **changes: Any) -> Result:
-        state = {
-            "circuit": self._circuit,
-            "output": self._output,
-            "coefficients": self._coefficients,
-            "sources": self._sources,
-            "fixed": self._fixed,
-            "post": self._post,
-            "averaged": self._averaged,
-            "substituted": self._substituted,
-            "domain": self._domain,
-            "root": self._root,
-        }
-        state.update(changes)
-        return Result(**state)
+        """A new result with some fields changed (``circuit=``, ``coefficients=``, ...)."""
+        return dataclasses.replace(self, **{"_" + k: v for k, v in changes.items()})
 
     def _source_symbol(self, source: str | sp.Symbol) -> sp.Symbol:
         if isinstance(source, sp.Symbol):

@@ -203,8 +203,11 @@ class SettingsReader:
                 if not f.is_positive:
                     raise t.error("at", f"{f} Hz: every frequency must be > 0")
                 at.append(f)
+        margin = t.take_number("phase-margin", None)
+        if margin is not None and not 0 < margin < 180:
+            raise t.error("phase-margin", f"{margin}: give the threshold in degrees, e.g. 45")
         t.finish()
-        return ResponseSettings(source, start, stop, points, tuple(at))
+        return ResponseSettings(source, start, stop, points, tuple(at), margin)
 
     def noise(self, t: Table, circuit: Circuit, signal: str | None) -> NoiseSettings:
         for key, example in (("from", "0.1 Hz"), ("to", "10 kHz")):

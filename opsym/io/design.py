@@ -115,7 +115,9 @@ class ResponseSettings:
 
     Frequencies are in hertz; ``None`` means "not given" (the study uses its
     defaults: 10 Hz to 10 MHz, one point per decade). ``at`` lists the
-    frequencies where gain and gain error are reported.
+    frequencies where gain and gain error are reported. ``phase_margin``
+    (degrees) is the threshold under which an op-amp loop is flagged
+    (``None``: 45°, common practice).
     """
 
     signal: str | None = None
@@ -123,6 +125,7 @@ class ResponseSettings:
     f_stop: sp.Expr | None = None
     points_per_decade: int | None = None
     at: tuple[sp.Expr, ...] = ()
+    phase_margin: float | None = None
 
 
 @dataclass(frozen=True)

@@ -42,7 +42,7 @@ from typing import Any
 
 import sympy as sp
 
-from ..errors import InvalidValueError
+from ..errors import ArgumentTypeError, InvalidValueError
 from ..model.circuit import Circuit
 from ..model.elements import (
     Capacitor,
@@ -53,6 +53,7 @@ from ..model.elements import (
     TwoTerminal,
     VoltageSource,
 )
+from ..model.limits import expect_mapping, expect_text, shown
 from ..model.nonideal import PinAdmittance, PinCurrent, SeriesVoltage, SinglePole
 from ..model.symbols import LAPLACE
 from ..numeric.params import OpAmpParams
@@ -107,8 +108,23 @@ def read_netlist(
         A line opsym cannot read: the message names its number and text and
         says what to do.
     """
+    expect_text(text, "read_netlist: the netlist", "'title\\nR1 in out 10k\\n.end'")
+    expect_text(filename, "read_netlist: filename", "'amp.cir'")
     if isinstance(output, str) and "," in output:
         output = [part.strip() for part in output.split(",")]
+    if output is not None and not (
+        isinstance(output, str)
+        or (isinstance(output, Sequence) and all(isinstance(n, str) for n in output))
+    ):
+        raise ArgumentTypeError(
+            f"read_netlist: output {shown(output)} is not a node name; give e.g. 'out' "
+            "or ('outp', 'outn')"
+        )
+    if opamps is not None and not isinstance(opamps, (Mapping, Sequence)):
+        raise ArgumentTypeError(
+            f"read_netlist: opamps {shown(opamps)} is not a pin map; give e.g. "
+            "{'MYAMP': ('+', '-', 'out')} or ('+', '-', 'out')"
+        )
     return NetlistReader(text, filename, opamps).read(output)
 
 
@@ -147,6 +163,14 @@ def write_netlist(
         The netlist. Element values and sources without a number are refused;
         op-amp error sources without one are written as 0 with a comment.
     """
+    if not isinstance(circuit, (Design, Circuit)):
+        raise ArgumentTypeError(
+            f"write_netlist: expected a Circuit or a Design, not {shown(circuit)}"
+        )
+    if values is not None:
+        expect_mapping(values, "write_netlist: values")
+    if params is not None:
+        expect_mapping(params, "write_netlist: params", "{'U1': opamp_parameters('generic CMOS')}")
     if isinstance(circuit, Design):
         design = circuit
         circuit = design.circuit

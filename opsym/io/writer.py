@@ -299,6 +299,8 @@ class _Writer:
                 body["points-per-decade"] = r.points_per_decade
             if r.at:
                 body["at"] = [_hertz(f, "[response] at") for f in r.at]
+            if r.phase_margin is not None:
+                body["phase-margin"] = r.phase_margin
             self.lines += ["", "[response]"]
             for k, v in body.items():
                 self.key(k, v)

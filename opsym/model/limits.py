@@ -33,7 +33,7 @@ import numpy as np
 import sympy as sp
 
 from ..errors import ArgumentTypeError, InvalidValueError
-from ..values import to_exact
+from ..values import MAX_EXPONENT, to_exact
 
 __all__ = [
     "MAX_ELEMENTS",
@@ -52,9 +52,9 @@ __all__ = [
 
 #: Largest magnitude of any number given: 1e150, as for values written as text
 #: (:mod:`opsym.values`), so that floats computed from it stay finite.
-MAX_MAGNITUDE = sp.Integer(10) ** 150
+MAX_MAGNITUDE = sp.Integer(10) ** MAX_EXPONENT
 #: Smallest magnitude of a non-zero number given (1e-150).
-MIN_MAGNITUDE = sp.Integer(10) ** -150
+MIN_MAGNITUDE = sp.Integer(10) ** -MAX_EXPONENT
 #: Most elements one circuit may hold.
 MAX_ELEMENTS = 2000
 

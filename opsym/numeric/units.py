@@ -28,10 +28,11 @@ import math
 from numbers import Real
 from typing import Any
 
+import sympy as sp
 from quantiphy import Quantity
 
-from ..errors import ValueRangeError, ValueSyntaxError
-from ..values import _MAX_DB, parse_value
+from ..errors import ArgumentTypeError, ValueRangeError, ValueSyntaxError
+from ..values import _MAX_DB, parse_value, to_exact
 
 __all__ = [
     "db_to_ratio",
@@ -137,7 +138,7 @@ def parse_quantity(text: Any, unit: str | None = None, *, where: str = "value") 
     if isinstance(text, bool):
         raise ValueSyntaxError(f"{where}: {text!r} is not a number; give e.g. '10k' or 1e4")
     if isinstance(text, Real):
-        value = float(text)
+        value = float(to_exact(text, where))  # an int past the range is refused, not overflowed
         if not math.isfinite(value):
             raise ValueRangeError(f"{where}: {value} is not finite; give a finite number")
         return value
@@ -242,6 +243,8 @@ def format_si(x: float, unit: str = "", digits: int = 4, *, latex: bool = False)
     """
     if digits < 1:
         raise ValueSyntaxError(f"format_si: digits={digits} must be at least 1")
+    if isinstance(x, bool) or not isinstance(x, (Real, sp.Number)) or x in (sp.zoo, sp.nan):
+        raise ArgumentTypeError(f"format_si: expected a real number, not {type(x).__name__}")
     value = float(x)
     if not math.isfinite(value):
         if math.isnan(value):

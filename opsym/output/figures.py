@@ -36,7 +36,7 @@ from ..errors import (
 )
 from ..model.elements import CurrentSource
 from ..model.symbols import LAPLACE
-from ..numeric.frequency import frequency_grid
+from ..numeric.frequency import evaluator, frequency_grid, natural_frequencies
 from ..numeric.units import format_si
 from .laplace import transfer_parts
 
@@ -44,6 +44,7 @@ __all__ = [
     "bode_chart",
     "contribution_chart",
     "gain_error_chart",
+    "loop_gain_chart",
     "monte_carlo_histogram",
     "noise_density_chart",
     "temperature_chart",
@@ -466,3 +467,88 @@ def _noise_density(noise_result: Any, f_start: float, f_stop: float, top: int | 
     ax.grid(which="both", alpha=0.3)
     ax.legend(fontsize=8)
     return fig
+
+
+def loop_gain_chart(
+    loop: Any,
+    *,
+    values: Any = None,
+    f_start: float | None = None,
+    f_stop: float | None = None,
+    ax: Any = None,
+    path: Any = None,
+) -> Any:
+    """Bode plot of a loop gain ``T`` with its crossover and phase margin marked.
+
+    Parameters
+    ----------
+    loop : LoopGain
+        From :func:`opsym.loop_gain` (Laplace domain), every value but ``s`` given
+        here or there.
+    values : mapping, optional
+        Further values.
+    f_start, f_stop : float, optional
+        Range in Hz (default: from the poles and zeros of ``T`` to past its crossover,
+        whole decades).
+    ax : (Axes, Axes), optional
+        Magnitude and phase axes to draw on; a new figure otherwise.
+    path : str or Path, optional
+        Also save the figure there (``.png``, ``.pdf``, ``.svg``).
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+
+    Examples
+    --------
+    >>> import opsym
+    >>> c = opsym.Circuit("follower")
+    >>> c.voltage_source("Vin", "p", "0")
+    >>> c.opamp("U1", plus="p", minus="out", out="out", gain="pole")
+    >>> lg = opsym.loop_gain(c, "U1", {"U1.A0": "100k", "U1.GBW": "1meg"})
+    >>> fig = loop_gain_chart(lg)
+    >>> [a.get_ylabel() for a in fig.axes]
+    ['|T| (dB)', 'phase of T (°)']
+    """
+    lg = loop.subs(values) if values else loop
+    margins = lg.margins()
+    t = evaluator(lg.gain, f"loop gain of op-amp {lg.opamp}")
+    lo, hi = _loop_range(lg.gain, margins, f_start, f_stop)
+    f = frequency_grid(lo, hi, _PER_DECADE)
+    h = t(f)
+    if ax is None:
+        fig = _figure(6.4, 5.2)
+        ax_mag, ax_ph = fig.subplots(2, 1, sharex=True)
+    else:
+        ax_mag, ax_ph = ax
+        fig = ax_mag.figure
+    with np.errstate(divide="ignore"):
+        ax_mag.semilogx(f, 20 * np.log10(np.abs(h)), color="#4c72b0", label="T")
+    ax_ph.semilogx(f, np.degrees(np.unwrap(np.angle(h))), color="#4c72b0", label="∠T")
+    ax_mag.axhline(0, color="grey", linewidth=0.8)
+    ax_ph.axhline(-180, color="grey", linewidth=0.8)
+    if margins.crossover_hz is not None and margins.phase_margin_deg is not None:
+        label = (
+            f"crossover {format_si(margins.crossover_hz, 'Hz', 4)}, "
+            f"phase margin {margins.phase_margin_deg:.1f}°"
+        )
+        for a in (ax_mag, ax_ph):
+            a.axvline(margins.crossover_hz, color="#c44e52", linewidth=0.8, ls=":", label=label)
+    ax_mag.set_ylabel("|T| (dB)")
+    ax_ph.set_ylabel("phase of T (°)")
+    _hertz_axis(ax_ph)
+    ax_mag.set_title(f"{lg.circuit.title}: loop gain of {lg.opamp}", fontsize=10)
+    for a in (ax_mag, ax_ph):
+        a.grid(which="both", alpha=0.3)
+    ax_mag.legend(fontsize=8)
+    if path is not None:
+        _save(fig, path)
+    return fig
+
+
+def _loop_range(gain: Any, margins: Any, f_start: Any, f_stop: Any) -> tuple[float, float]:
+    marks = [x for x in natural_frequencies(gain) if x > 0]
+    marks += [x for x in (margins.crossover_hz, margins.phase_crossover_hz) if x]
+    lo = 10 ** math.floor(math.log10(min(marks) / 10)) if marks else 1.0
+    hi = 10 ** math.ceil(math.log10(max(marks) * 10)) if marks else 1e7
+    return float(f_start or lo), float(f_stop or hi)

@@ -142,6 +142,7 @@ def design_note(
     resistors: Mapping[str, Any] | None = None,
     grade: str = "max",
     operating: Any = None,
+    stability: Any = None,
 ) -> str:
     """Write a design-note section for one result.
 
@@ -184,6 +185,8 @@ def design_note(
         The grade the budget took from the parameter sets.
     operating : OperatingPoint, optional
         The nominal operating point (:func:`opsym.analyses.operating.operating_point`).
+    stability : StabilitySection, optional
+        Each op-amp loop's margins and warnings (:mod:`opsym.output.stability`).
 
     Returns
     -------
@@ -199,7 +202,7 @@ def design_note(
         *_conventions_section(circuit),
         *_terms_sections(result, list(conditions), list(choices)),
         *_budget_sections(budget, [*studies], sweep, figure_list(figures)),
-        *(s.section() for s in (frequency, noise) if s is not None),
+        *(s.section() for s in (frequency, stability, noise) if s is not None),
         Section("Caution", (Paragraph(CAUTION),)),
     ]
     title = title or f"Design note: {getattr(circuit, 'title', '') or 'circuit'}"

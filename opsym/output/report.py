@@ -33,6 +33,7 @@ from .figures import (
 )
 from .notes import design_note
 from .sections import FrequencySection, NoiseSection
+from .stability import StabilitySection
 
 if TYPE_CHECKING:  # the study layer sits above output: for annotations only
     from ..study.design import Study
@@ -147,6 +148,7 @@ def study_note(
         figures=figures(BUDGET), frequency=frequency, noise=noise, fmt=fmt,
         standalone=standalone, values=d.values, notes=d.notes, parameters=d.opamps,
         resistors=d.resistors, grade=study_grade(study), operating=study.operating,
+        stability=StabilitySection(study.stability) if study.stability else None,
     )  # fmt: skip
 
 

@@ -22,6 +22,7 @@ from typing import Any
 import numpy as np
 import sympy as sp
 
+from ..analyses.branch import current_name
 from ..errors import BudgetError, OpsymError
 from ..model.elements import CurrentSource
 from ..model.symbols import SYMBOLS, opamp_symbol
@@ -104,6 +105,12 @@ def _prepare(
     progress: Progress | None = None,
 ) -> _Plan:
     opamps = _checked_options(grade, opamps, adc)
+    if current_name(getattr(result, "output", None)) is not None:
+        raise BudgetError(
+            f"output {result.output}: budgets are tabulated in volts, so a branch current "
+            "has none; read its terms from the Result (coefficient, subs), or budget the "
+            "voltage across a resistor that carries it"
+        )
     if getattr(result, "domain", "dc") == "s":
         result = result.at_dc()  # a budget of DC errors: the s = 0 limit
     terms = dict(result.terms)  # as solved: never factored before numbers go in

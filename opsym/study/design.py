@@ -57,6 +57,7 @@ from ..numeric.eseries import NullChoice, choose_for_null
 from ..values import to_exact
 from .budget import Budget, error_budget
 from .frequency import NoiseReport, ResponseReport, run_noise, run_response
+from .stability import DEFAULT_PHASE_MARGIN, LoopReport, run_stability
 from .temperature import TemperatureSweep, budget_over_temperature
 from .tolerance import ToleranceStudy, tolerance_analysis
 
@@ -97,6 +98,9 @@ class Study:
         Why there is no operating point (a component without a number ...).
     values : mapping of str to sympy.Expr
         The one exact values map every analysis took (:func:`design_values`).
+    stability : tuple of LoopReport
+        With a ``[response]``: each op-amp loop's margins against the
+        ``phase-margin`` threshold (:mod:`opsym.study.stability`).
     """
 
     design: Design
@@ -113,6 +117,7 @@ class Study:
     operating: OperatingPoint | None = None
     operating_problem: str = ""
     values: Mapping[str, sp.Expr] = field(default_factory=dict)
+    stability: tuple[LoopReport, ...] = ()
 
 
 def run_design(design: Design, progress: Progress | None = None) -> Study:
@@ -192,9 +197,15 @@ def run_design(design: Design, progress: Progress | None = None) -> Study:
     if design.noise:
         _phase(progress, "noise")
         noise = run_noise(design, values, design.noise, progress)
+    stability: tuple[LoopReport, ...] = ()
+    if design.response is not None:
+        _phase(progress, "loop gains and margins")
+        threshold = design.response.phase_margin or DEFAULT_PHASE_MARGIN
+        stability = run_stability(design, values, threshold)
     return Study(
         design, result, numbers, conditions, tuple(choices), tuple(sens), budget, sweep,
         tuple(studies), response, noise, operating, problem, MappingProxyType(values),
+        stability,
     )  # fmt: skip
 
 
