@@ -17,7 +17,30 @@ from __future__ import annotations
 
 import sympy as sp
 
-__all__ = ["admissible_roots", "null_roots"]
+from ..errors import NoSolutionError
+
+__all__ = ["admissible_roots", "null_equation", "null_roots"]
+
+
+def null_equation(expr: sp.Expr, x: sp.Symbol, what: str, shown: str, cannot: str) -> sp.Eq:
+    """``Eq(x, root)`` for the first admissible root of ``expr``; else :class:`NoSolutionError`.
+
+    ``what`` names the expression in messages (``"the coefficient of U1.Vos"``),
+    ``shown`` gives it in brackets and ``cannot`` ends the message.
+    """
+    if x not in expr.free_symbols:
+        raise NoSolutionError(
+            f"{x} does not appear in {what} {shown}; choose a component that affects it"
+        )
+    candidates = null_roots(expr, x)
+    found = admissible_roots(candidates, x)
+    if not found:
+        zeros = f" (the only zeros are {x} = {', '.join(map(str, candidates))})"
+        raise NoSolutionError(
+            f"no positive value of {x} makes {what} zero{zeros if candidates else ''}; "
+            f"{cannot} with {x} — choose another component"
+        )
+    return sp.Eq(x, found[0])
 
 
 def null_roots(expr: sp.Expr, x: sp.Symbol) -> list[sp.Expr]:

@@ -40,7 +40,7 @@ from ..model.elements import OpAmp
 from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
 from ._ideal import ideal_circuit, ideal_gains, ideal_limit
-from ._null import admissible_roots, null_roots
+from ._null import null_equation
 from .present import at_infinity, tidy, transfer_form
 from .response import FrequencyResponse
 
@@ -389,20 +389,7 @@ class Result(FrequencyResponse):
         return self._null_of(total, by, what, f"({tidy(total)})", "that sum cannot be nulled")
 
     def _null_of(self, expr: sp.Expr, by: Any, what: str, shown_: str, cannot: str) -> sp.Eq:
-        x = self._free_symbol(by, "null")
-        if x not in expr.free_symbols:
-            raise NoSolutionError(
-                f"{x} does not appear in {what} {shown_}; choose a component that affects it"
-            )
-        candidates = null_roots(expr, x)
-        found = admissible_roots(candidates, x)
-        if not found:
-            zeros = f" (the only zeros are {x} = {', '.join(map(str, candidates))})"
-            raise NoSolutionError(
-                f"no positive value of {x} makes {what} zero{zeros if candidates else ''}; "
-                f"{cannot} with {x} — choose another component"
-            )
-        return sp.Eq(x, found[0])
+        return null_equation(expr, self._free_symbol(by, "null"), what, shown_, cannot)
 
     def gain_error(self, signal: str | sp.Symbol | None = None, order: int | None = None):
         """Fractional signal-gain error ``(G − G_ideal)/G_ideal`` from finite open-loop gain.
