@@ -20,8 +20,16 @@ Examples
 
 from .analyses.loop import LoopGain, loop_gain
 from .analyses.noise import NoiseResult
+from .analyses.noise_figure import (
+    circuit_noise_figure,
+    circuit_optimum_source_resistance,
+    minimum_noise_figure,
+    noise_figure,
+    optimum_source_resistance,
+)
 from .analyses.ports import PortImpedance, input_impedance, output_impedance
 from .analyses.result import Result, SourceInfo
+from .analyses.transfer import TransferFunction, transfer_function
 from .errors import (
     ArgumentTypeError,
     BudgetError,
@@ -146,6 +154,7 @@ __all__ = [
     "SourceInfo",
     "SupplyRejection",
     "SupplyRejectionPole",
+    "TransferFunction",
     "UnknownNameError",
     "ValueRangeError",
     "ValueSyntaxError",
@@ -153,6 +162,8 @@ __all__ = [
     "__version__",
     "budget_over_temperature",
     "choose_for_null",
+    "circuit_noise_figure",
+    "circuit_optimum_source_resistance",
     "corner_values",
     "design_note",
     "dump_design",
@@ -161,9 +172,12 @@ __all__ = [
     "input_impedance",
     "load_design",
     "loop_gain",
+    "minimum_noise_figure",
     "monte_carlo",
+    "noise_figure",
     "noise_latex",
     "opamp_parameters",
+    "optimum_source_resistance",
     "output_impedance",
     "parse_design",
     "parse_quantity",
@@ -173,6 +187,7 @@ __all__ = [
     "resistor_parameters",
     "s",
     "tolerance_analysis",
+    "transfer_function",
     "transfer_latex",
     "write_netlist",
 ]

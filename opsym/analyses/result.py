@@ -40,6 +40,7 @@ from ..model.elements import OpAmp
 from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
 from ._ideal import ideal_circuit, ideal_gains, ideal_limit
+from ._null import null_equation
 from .present import at_infinity, tidy, transfer_form
 from .response import FrequencyResponse
 
@@ -328,8 +329,19 @@ class Result(FrequencyResponse):
 
     # -- analyses ---------------------------------------------------------------------
 
-    def null(self, source: str | sp.Symbol, by: str | sp.Symbol) -> sp.Eq:
+    def null(
+        self,
+        source: str | sp.Symbol | list[str | sp.Symbol] | tuple[str | sp.Symbol, ...],
+        by: str | sp.Symbol,
+        values: Mapping[Any, Any] | None = None,
+    ) -> sp.Eq:
         """The value of component ``by`` that makes ``source``'s coefficient zero.
+
+        ``source`` may also be a list of sources: then the sum of their terms,
+        each coefficient times the source's value, is made zero (a trim network
+        that zeroes the total output offset). ``values`` gives those values
+        (numbers, text such as ``"1m"`` or symbols, keyed by source name); a
+        source not given keeps its own symbol, a signal its declared value.
 
         Raises :class:`~opsym.NoSolutionError` when no admissible (positive, for
         a component) value exists.
@@ -342,30 +354,42 @@ class Result(FrequencyResponse):
         Traceback (most recent call last):
         ...
         opsym.errors.NoSolutionError: no positive value of R2 makes the coefficient of U1.Vos ...
+        >>> _stage().null(["U1.Vos", "U1.Ib+"], by="Rs", values={"U1.Vos": "1m", "U1.Ib+": "1u"})
+        Eq(Rs, 1000)
         """
+        if isinstance(source, (list, tuple)):
+            return self._null_of_sum(list(source), by, values)
         coeff = self.coefficient(source)
-        x = self._free_symbol(by, "null")
-        if x not in coeff.free_symbols:
-            raise NoSolutionError(
-                f"{x} does not appear in the coefficient of {self._source_symbol(source)} "
-                f"({coeff}); choose a component that affects it"
+        what = f"the coefficient of {self._source_symbol(source)}"
+        return self._null_of(coeff, by, what, f"({coeff})", "that error cannot be nulled")
+
+    def _null_of_sum(self, sources: list[Any], by: Any, values: Any) -> sp.Eq:
+        """:meth:`null` of the sum of several sources' terms at the given values."""
+        if not sources:
+            raise InvalidValueError("null: give at least one source name, e.g. ['U1.Vos']")
+        given = expect_mapping(values or {}, "null values", "{'U1.Vos': '1m'}")
+        chosen = {self._source_symbol(k): v for k, v in given.items()}
+        declared = {i.symbol: i.value for i in self._sources if i.kind == "signal"}
+        subs = {**self._fixed, **self._post}
+        total = sp.S.Zero
+        for name in sources:
+            sym = self._source_symbol(name)
+            if sym in chosen:
+                value = chosen.pop(sym)
+                v = value if isinstance(value, sp.Symbol) else exact_value(value, f"null {sym}")
+            else:
+                v = declared.get(sym, sym).xreplace(subs)
+            total += self.coefficient(sym) * v
+        if chosen:
+            raise UnknownNameError(
+                f"null values: {', '.join(map(str, chosen))} not among the sources summed "
+                f"({', '.join(map(str, sources))}); add them to the list or drop the values"
             )
-        numerator = sp.fraction(sp.together(coeff))[0]
-        candidates = [sp.factor(s) for s in sp.solve(numerator, x)]
-        admissible = [s for s in candidates if not (x.is_positive and s.is_positive is False)]
-        admissible = [s for s in admissible if s.is_real is not False]
-        if not admissible:
-            found = (
-                f" (the only zeros are {x} = {', '.join(map(str, candidates))})"
-                if candidates
-                else ""
-            )
-            raise NoSolutionError(
-                f"no positive value of {x} makes the coefficient of "
-                f"{self._source_symbol(source)} zero{found}; that error cannot be nulled "
-                f"with {x} — choose another component"
-            )
-        return sp.Eq(x, admissible[0])
+        what = f"the sum of the terms of {', '.join(map(str, sources))}"
+        return self._null_of(total, by, what, f"({tidy(total)})", "that sum cannot be nulled")
+
+    def _null_of(self, expr: sp.Expr, by: Any, what: str, shown_: str, cannot: str) -> sp.Eq:
+        return null_equation(expr, self._free_symbol(by, "null"), what, shown_, cannot)
 
     def gain_error(self, signal: str | sp.Symbol | None = None, order: int | None = None):
         """Fractional signal-gain error ``(G − G_ideal)/G_ideal`` from finite open-loop gain.
