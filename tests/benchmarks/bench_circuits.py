@@ -39,17 +39,22 @@ def instrumentation_amplifier(gain: str = "finite") -> opsym.Circuit:
 def r2r_dac(bits: int, gain: str = "finite") -> opsym.Circuit:
     """Voltage-mode R-2R ladder into an inverting op-amp: one source ``B{i}`` per bit.
 
-    Bit ``i`` (0 = least significant) drives node ``l{i}`` through its own 2R leg
-    ``R2_{i}``; series resistors ``R_{i}`` join ``l{i}`` to ``l{i+1}``; ``Rt`` (2R)
-    terminates the least significant end; the most significant node feeds the
-    virtual ground through ``R_{bits-1}`` and ``Rf`` closes the loop.
+    Bit ``i`` (0 = least significant) drives ladder node ``i`` through its own
+    2R leg ``R2_{i}``; series resistors ``R_{i}`` join node ``i`` to node
+    ``i + 1``; ``Rt`` (2R) terminates the least significant end; the most
+    significant node is the virtual ground ``n``, and ``Rf`` closes the loop.
     """
     c = opsym.Circuit(f"{bits}-bit R-2R DAC")
-    c.resistor("Rt", "l0", "0")
+
+    def node(i: int) -> str:
+        return "n" if i == bits - 1 else f"l{i}"
+
+    c.resistor("Rt", node(0), "0")
     for i in range(bits):
         c.voltage_source(f"B{i}", f"b{i}", "0")
-        c.resistor(f"R2_{i}", f"b{i}", f"l{i}")
-        c.resistor(f"R_{i}", f"l{i}", f"l{i + 1}" if i + 1 < bits else "n")
+        c.resistor(f"R2_{i}", f"b{i}", node(i))
+        if i + 1 < bits:
+            c.resistor(f"R_{i}", node(i), node(i + 1))
     c.resistor("Rf", "n", "out")
     c.opamp("U1", plus="0", minus="n", out="out", gain=gain)
     return c
