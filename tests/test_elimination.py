@@ -134,3 +134,16 @@ def test_wide_summer_is_fast():
     inverse = res.coefficient("V7").xreplace({names["U1.A"]: 1 / t})
     num, den = sp.fraction(sp.cancel(sp.together(inverse)))
     assert sp.cancel(num.subs(t, 0) / den.subs(t, 0) + names["Rf"] / names["R7"]) == 0
+
+
+def test_null_reads_a_linear_zero_off_its_coefficients():
+    """c1·x + c0 = 0 at x = −c0/c1 (algebra); the same answer sympy.solve gives."""
+    from opsym.analyses.present import zeros_in
+
+    r1, r2, r3, x = sp.symbols("R1 R2 R3 x", positive=True)
+    numerator = r1 * r2 - x * (r1 + r2) + r3 * x * r1
+    (root,) = zeros_in(numerator, x)
+    assert sp.cancel(root - r1 * r2 / (r1 + r2 - r1 * r3)) == 0
+    assert [sp.factor(s) for s in sp.solve(numerator, x)] == [root]
+    quadratic = zeros_in(x**2 - r1 * r2, x)  # not linear: solved, positive root only
+    assert quadratic == [sp.sqrt(r1) * sp.sqrt(r2)]

@@ -19,7 +19,15 @@ from __future__ import annotations
 
 import sympy as sp
 
-__all__ = ["TIDY_LIMIT", "Parallel", "at_infinity", "tidy", "trade_form", "transfer_form"]
+__all__ = [
+    "TIDY_LIMIT",
+    "Parallel",
+    "at_infinity",
+    "tidy",
+    "trade_form",
+    "transfer_form",
+    "zeros_in",
+]
 
 #: Largest operation count of a sum that :func:`tidy` still factors.
 TIDY_LIMIT = 1500
@@ -103,6 +111,29 @@ def _normalised(poly: sp.Poly, s: sp.Symbol, low: int) -> sp.Expr:
     """``poly/(its s**low coefficient · s**low)``, coefficients factored: constant term 1."""
     lead = poly.coeff_monomial(s**low)
     return sp.Add(*[sp.factor(c / lead) * s ** (k - low) for (k,), c in poly.terms() if c != 0])
+
+
+def zeros_in(numerator: sp.Expr, x: sp.Symbol) -> list[sp.Expr]:
+    """The values of ``x`` that make the polynomial ``numerator`` zero, each factored.
+
+    A coefficient's numerator is usually linear in one component, ``c1·x + c0``:
+    its zero is read off as ``−c0/c1``. Anything else goes to ``sympy.solve``.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> R1, R2, Rs = sp.symbols("R1 R2 Rs", positive=True)
+    >>> zeros_in(R1*R2 - R1*Rs - R2*Rs, Rs)
+    [R1*R2/(R1 + R2)]
+    """
+    try:
+        poly = sp.Poly(numerator, x)
+    except sp.PolynomialError:
+        poly = None
+    if poly is not None and poly.degree() == 1:
+        c1, c0 = poly.all_coeffs()
+        return [sp.factor(-c0 / c1)]
+    return [sp.factor(s) for s in sp.solve(numerator, x)]
 
 
 def _has_fraction(expr: sp.Expr) -> bool:

@@ -39,7 +39,7 @@ from ..model.circuit import Circuit
 from ..model.elements import OpAmp
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
 from ..values import to_exact
-from .present import at_infinity, tidy, transfer_form
+from .present import at_infinity, tidy, transfer_form, zeros_in
 from .response import FrequencyResponse
 
 if TYPE_CHECKING:
@@ -329,7 +329,7 @@ class Result(FrequencyResponse):
                 f"({coeff}); choose a component that affects it"
             )
         numerator = sp.fraction(sp.together(coeff))[0]
-        candidates = [sp.factor(s) for s in sp.solve(numerator, x)]
+        candidates = zeros_in(numerator, x)
         admissible = [s for s in candidates if not (x.is_positive and s.is_positive is False)]
         admissible = [s for s in admissible if s.is_real is not False]
         if not admissible:
