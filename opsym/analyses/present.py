@@ -1,9 +1,11 @@
 """Readable closed forms: tidy a coefficient without blowing it up.
 
-Coefficients come out of the solver as products of per-block factored
-rational functions. A single product is already in its readable form; a sum
-(several paths to the output) is brought over one denominator and factored
-when that is affordable, and otherwise left as the exact sum it is.
+Coefficients come out of the solver as products of per-block rational
+functions, each a cancelled numerator over a denominator (the solver does not
+factor: that is presentation, done here when a coefficient is shown). In a
+product each polynomial part is factored on its own; a sum (several paths to
+the output) is brought over one denominator and factored when that is
+affordable, and otherwise left as the exact sum it is.
 
 Examples
 --------
@@ -17,7 +19,14 @@ from __future__ import annotations
 
 import sympy as sp
 
-__all__ = ["TIDY_LIMIT", "Parallel", "at_infinity", "tidy", "trade_form", "transfer_form"]
+__all__ = [
+    "TIDY_LIMIT",
+    "Parallel",
+    "at_infinity",
+    "tidy",
+    "trade_form",
+    "transfer_form",
+]
 
 #: Largest operation count of a sum that :func:`tidy` still factors.
 TIDY_LIMIT = 1500
@@ -26,20 +35,43 @@ TIDY_LIMIT = 1500
 def tidy(expr: sp.Expr, limit: int = TIDY_LIMIT, deep: bool = False) -> sp.Expr:
     """Return ``expr`` collected over one denominator and factored, if affordable.
 
-    A product is taken to be a product of already factored block results and
-    left alone, unless ``deep`` (after a substitution, say) asks for it too.
+    A product is taken to be a product of block results: each polynomial part
+    is factored on its own (a long nested cascade product keeps its nesting),
+    unless ``deep`` (after a substitution, say) asks to factor it as a whole.
     """
     if expr.is_number:
         return expr
     if isinstance(expr, sp.Mul) and not deep:
         if any(a.is_Mul for a in expr.args):  # nested: a long cascade product
-            return expr
-        return sp.Mul(*[tidy(a, limit) if _has_fraction(a) else a for a in expr.args])
+            return _factor_leaves(expr, limit, {})
+        return sp.Mul(*[_factor_part(a, limit) for a in expr.args])
     if isinstance(expr, sp.Mul) and sp.count_ops(expr) <= limit:
         return sp.factor(expr)
     if isinstance(expr, sp.Add) and sp.count_ops(expr) <= limit:
         return sp.factor(sp.together(expr))
     return expr
+
+
+def _factor_part(part: sp.Expr, limit: int) -> sp.Expr:
+    """One factor of a product: a polynomial (or its power) factored, a sum of fractions tidied."""
+    if _has_fraction(part):
+        return tidy(part, limit)
+    base, exp = part.as_base_exp()
+    if isinstance(base, sp.Add) and exp.is_Integer and sp.count_ops(base) <= limit:
+        return sp.factor(base) ** exp
+    return part
+
+
+def _factor_leaves(expr: sp.Expr, limit: int, cache: dict) -> sp.Expr:
+    """Factor the polynomial leaves of a nested product, keeping the nesting."""
+    if expr in cache:
+        return cache[expr]
+    if isinstance(expr, sp.Mul):
+        out = sp.Mul(*[_factor_leaves(a, limit, cache) for a in expr.args], evaluate=False)
+    else:
+        out = _factor_part(expr, limit)
+    cache[expr] = out
+    return out
 
 
 def transfer_form(expr: sp.Expr, s: sp.Symbol, limit: int = TIDY_LIMIT) -> sp.Expr:

@@ -43,10 +43,12 @@ def solve_adjoint(
     eqs: NodalEquations,
     output: Mapping[int, sp.Expr],
     progress: Progress | None = None,
+    method: str | None = None,
 ) -> list[sp.Expr]:
     """Solve ``Mᵀz = c`` where ``c`` has entries ``output`` (unknown index → weight).
 
-    Returns ``z`` indexed by the rows (equations) of ``M``.
+    Returns ``z`` indexed by the rows (equations) of ``M``. ``method`` chooses
+    how each block is eliminated (see :func:`~opsym.equations.sparse.solve_block`).
     """
     n = len(eqs.unknowns)
     transposed: list[dict[int, sp.Expr]] = [{} for _ in range(n)]
@@ -71,7 +73,7 @@ def solve_adjoint(
             if weight != 0:
                 rhs[u]["c"] = sp.Integer(weight) if isinstance(weight, int) else weight
             known = [
-                product(_factored(v), z[rr])
+                product(_together(v), z[rr])
                 for rr, v in transposed[u].items()
                 if rr not in members and z[rr] != 0
             ]
@@ -81,7 +83,7 @@ def solve_adjoint(
         try:
             # Undriven blocks are eliminated too: a singular part of the circuit is an
             # error whichever output is asked for.
-            solution = solve_block(matrix, rhs, block)
+            solution = solve_block(matrix, rhs, block, method)
         except SingularBlock:
             raise _block_error(eqs, block) from None
         if not any(rhs.values()):
@@ -134,9 +136,12 @@ def _length(e: sp.Expr) -> int:
     return len(e.args)
 
 
-def _factored(entry: sp.Expr) -> sp.Expr:
-    """A coupling entry in readable form: ``1/R1 + 1/R2`` becomes ``(R1 + R2)/(R1*R2)``."""
-    return sp.factor(entry) if isinstance(entry, sp.Add) else entry
+def _together(entry: sp.Expr) -> sp.Expr:
+    """A coupling entry over one denominator: ``1/R1 + 1/R2`` becomes ``(R1 + R2)/(R1*R2)``.
+
+    Not factored: factoring is presentation, done when a coefficient is shown.
+    """
+    return sp.together(entry) if isinstance(entry, sp.Add) else entry
 
 
 def _elements_of(eqs: NodalEquations, rows) -> str:

@@ -1,10 +1,18 @@
 """Exact sparse elimination inside one diagonal block.
 
 The block's entries are converted into one SymPy domain (rational functions of
-the block's own symbols, usually ``ZZ(R1, R2, …)``) so every operation cancels
-exactly and cheaply. Pivots follow the Markowitz rule — the entry with the
-smallest product ``(row count − 1)·(column count − 1)``, ties broken by the
-smallest entry — which keeps fill-in, and so expression growth, low.
+the block's own symbols, usually ``ZZ(R1, R2, …)``). Each row is then cleared
+of its denominators, and the block is solved fraction-free over the integer
+polynomials (Bareiss's one-step elimination: every division is exact, and no
+greatest common divisor is taken until the end, one per solution entry). The
+polynomial arithmetic runs in :mod:`opsym.equations._poly` (python-flint when
+installed). Pivots follow the Markowitz rule — the entry with the smallest
+product ``(row count − 1)·(column count − 1)``, ties broken by the smallest
+entry — which keeps fill-in, and so expression growth, low. Results come out
+as numerator over denominator, cancelled but not factored: factoring is
+presentation, done when a coefficient is shown. Domains that are not rational
+functions over the integers (numbers only, or ``EX``) are eliminated over the
+field directly.
 
 Examples
 --------
@@ -25,6 +33,8 @@ from typing import Any
 import sympy as sp
 from sympy.polys.constructor import construct_domain
 
+from ._poly import PolyEngine, engine
+
 __all__ = ["SingularBlock", "readable", "solve_block"]
 
 
@@ -36,6 +46,7 @@ def solve_block(
     matrix: dict[int, dict[int, sp.Expr]],
     rhs: dict[int, dict[Hashable, sp.Expr]],
     cols: list[int],
+    method: str | None = None,
 ) -> dict[int, dict[Hashable, sp.Expr]]:
     """Solve ``matrix · X = rhs`` exactly for several right-hand-side columns.
 
@@ -48,11 +59,16 @@ def solve_block(
         the block's domain only in the sense that they are exact expressions.
     cols : list of int
         The block's columns.
+    method : {None, "flint", "sympy", "field"}
+        ``None`` eliminates fraction-free with the default polynomial engine;
+        ``"flint"`` or ``"sympy"`` chooses the engine; ``"field"`` eliminates
+        over the rational functions and factors every result (the reference
+        the tests compare with).
 
     Returns
     -------
     dict
-        Column → {rhs key → solution}, each entry in :func:`readable` form.
+        Column → {rhs key → solution}, each entry numerator over denominator.
     """
     entries: list[sp.Expr] = []
     for mrow in matrix.values():
@@ -63,6 +79,8 @@ def solve_block(
     it = iter(elems)
     a = {r: {c: next(it) for c in row} for r, row in matrix.items()}
     b = {r: {k: next(it) for k in row} for r, row in rhs.items()}
+    if method != "field" and domain.is_FractionField and domain.domain == sp.ZZ:
+        return _fraction_free(a, b, cols, engine(domain.field.ring, method))
     solution = _eliminate(a, b, cols, domain)
     cache: dict = {}  # entries of one block share its determinant: factor it once
     return {
@@ -133,7 +151,116 @@ def _eliminate(a, b, cols, domain):
     return x
 
 
-def _markowitz(a, remaining, col_rows):
+def _fraction_free(a, b, cols, eng: PolyEngine):
+    """Bareiss elimination of ``[a | b]`` over ``ZZ[block symbols]``, rows cleared first."""
+    ring = eng.ring
+    rows, rhs = {}, {}
+    for r, row in a.items():
+        scale = ring.one
+        for v in (*row.values(), *b[r].values()):
+            scale = scale.lcm(v.denom)
+        rows[r] = {c: eng.native(v.numer * scale.exquo(v.denom)) for c, v in row.items() if v}
+        rhs[r] = {k: eng.native(v.numer * scale.exquo(v.denom)) for k, v in b[r].items() if v}
+    col_rows: dict[int, set[int]] = {c: set() for c in cols}
+    for r, row in rows.items():
+        for c in row:
+            col_rows[c].add(r)
+    remaining = set(rows)
+    order: list[tuple[int, int]] = []
+    prev = None  # the previous pivot: every entry divides exactly by it
+    while remaining:
+        pivot = _markowitz(rows, remaining, col_rows, eng.size)
+        if pivot is None:
+            raise SingularBlock
+        pr, pc = pivot
+        order.append(pivot)
+        remaining.discard(pr)
+        for c in rows[pr]:
+            col_rows[c].discard(pr)
+        for r in remaining:
+            f = rows[r].pop(pc, None)
+            if f is not None:
+                col_rows[pc].discard(r)
+            p = rows[pr][pc]
+            _bareiss_row(eng, rows[r], rows[pr], (p, f, prev), pc, (col_rows, r))
+            _bareiss_row(eng, rhs[r], rhs[pr], (p, f, prev), None, None)
+        prev = rows[pr][pc]
+    return _back_substitute(eng, rows, rhs, order, prev)
+
+
+def _bareiss_row(eng, row, prow, step, pc, track):
+    """``row ← (p·row − f·prow)/prev`` in place, ``step = (p, f, prev)``.
+
+    ``f`` is the row's entry in the pivot column ``pc`` (None when it has none,
+    and then the row is only scaled); ``prev`` is the previous pivot (None at
+    the first step). ``track = (col_rows, r)`` keeps the column index current.
+    """
+    p, f, prev = step
+    col_rows, r = track if track is not None else (None, None)
+    keys = set(row) if f is None else set(row) | set(prow)
+    if pc is not None:
+        keys.discard(pc)
+    for c in keys:
+        new = p * row[c] if c in row else None
+        if f is not None and c in prow:
+            term = f * prow[c]
+            new = -term if new is None else new - term
+        if new is not None and new != 0 and prev is not None:
+            new = eng.exquo(new, prev)
+        if new is None or new == 0:
+            if c in row:
+                del row[c]
+                if col_rows is not None:
+                    col_rows[c].discard(r)
+        else:
+            if col_rows is not None and c not in row:
+                col_rows[c].add(r)
+            row[c] = new
+
+
+def _back_substitute(eng, rows, rhs, order, det):
+    """Cramer numerators ``X = det·x`` from the last pivot back; each ``x = X/det`` cancelled."""
+    numer: dict[int, dict] = {}
+    for pr, pc in reversed(order):
+        acc = {k: det * v for k, v in rhs[pr].items()}
+        for c, v in rows[pr].items():
+            if c == pc:
+                continue
+            for k, xv in numer[c].items():
+                acc[k] = acc[k] - v * xv if k in acc else -(v * xv)
+        pval = rows[pr][pc]
+        numer[pc] = {k: eng.exquo(v, pval) for k, v in acc.items() if v != 0}
+    return {
+        c: {k: _ratio(eng, v, det) for k, v in sol.items() if v != 0} for c, sol in numer.items()
+    }
+
+
+def _ratio(eng: PolyEngine, num, den) -> sp.Expr:
+    """``num/den`` with their common factor removed, as a SymPy expression."""
+    g = eng.gcd(num, den)
+    num, den = eng.back(eng.exquo(num, g)), eng.back(eng.exquo(den, g))
+    if den.LC < 0:  # the sign goes to the numerator, as a factored form shows it
+        num, den = -num, -den
+    return _content_form(num) / _content_form(den)
+
+
+def _content_form(p) -> sp.Expr:
+    """A polynomial with its integer and monomial content pulled out: cheap, not factored."""
+    if len(p) <= 1:
+        return p.as_expr()
+    content, q = p.primitive()
+    if q.LC < 0:
+        content, q = -content, -q
+    monom = tuple(min(e) for e in zip(*q.keys(), strict=True))
+    if any(monom):
+        q = q.ring.from_dict(
+            {tuple(a - b for a, b in zip(m, monom, strict=True)): v for m, v in q.items()}
+        )
+    lead = p.ring.from_dict({monom: p.ring.domain.one}).as_expr()
+    return sp.Integer(int(content)) * lead * q.as_expr()
+
+
+def _markowitz(a, remaining, col_rows, size=None):
     best = None
     best_key = None
     for r in remaining:
@@ -141,7 +268,7 @@ def _markowitz(a, remaining, col_rows):
         nr = len(row) - 1
         for c, v in row.items():
             nc = sum(1 for rr in col_rows[c] if rr in remaining) - 1
-            key = (nr * nc, _size(v), r, c)
+            key = (nr * nc, _size(v) if size is None else size(v), r, c)
             if best_key is None or key < best_key:
                 best, best_key = (r, c), key
     return best
