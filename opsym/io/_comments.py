@@ -143,8 +143,8 @@ def keep_comments(original: str, rewritten: str) -> str:
             carried += n.above + ([n.end] if n.end else [])
     tail = carried + tail
     out: list[str] = []
-    for anchor, code, comment, complete in lines:
-        here = notes.pop(anchor) if anchor is not None and anchor in notes else None
+    for at, code, comment, complete in lines:
+        here = notes.pop(at) if at is not None and at in notes else None
         if here is None:
             out.append(code if comment is None else f"{code}  {comment}".lstrip())
             continue
