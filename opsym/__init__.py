@@ -18,6 +18,7 @@ Examples
 <class 'opsym.model.circuit.Circuit'>
 """
 
+from ._version import __version__
 from .analyses.noise import NoiseResult
 from .analyses.result import Result, SourceInfo
 from .errors import (
@@ -68,6 +69,7 @@ from .numeric import (
     preferred_value,
     resistor_parameters,
 )
+from .numeric.requirement import Requirement
 from .output import FrequencySection, NoiseSection, design_note
 from .output.latex import transfer_latex
 from .output.noise import noise_latex
@@ -81,8 +83,6 @@ from .study import (
 )
 from .study.noise import NoiseBudget
 from .values import parse_value
-
-__version__ = "0.1.0"
 
 __all__ = [
     "ADC",
@@ -113,6 +113,7 @@ __all__ = [
     "OpsymError",
     "PinAdmittance",
     "PinCurrent",
+    "Requirement",
     "ResistorParams",
     "Result",
     "SeriesVoltage",

@@ -151,6 +151,9 @@ class _Writer:
         self.key("title", self.circuit.title)
         if b and b.notes:
             self.key("notes", b.notes)
+        for key in ("revision", "date"):
+            if b and getattr(b, key):
+                self.key(key, getattr(b, key))
         out = list(self.output) if isinstance(self.output, tuple) else self.output
         self.key("output", out)
         if b and b.signal is not None and self._signals() != [b.signal]:
@@ -318,6 +321,11 @@ class _Writer:
             if n.signal is not None and (b.signal is None or n.signal != b.signal):
                 body["signal"] = n.signal
             self.table("noise", body)
+        if b.requirement is not None:
+            req = b.requirement
+            key = f"max-{req.referred}-error"
+            limit = _with_unit(format_value(Fraction(repr(req.limit))), "V")
+            self.table("requirement", {key: limit, "sum": req.sum})
 
     def table(self, name: str, body: dict[str, Any]) -> None:
         if body:

@@ -30,11 +30,14 @@ True
 
 from __future__ import annotations
 
+import datetime
+import os
 from collections.abc import Iterable, Mapping
 from typing import Any
 
 import sympy as sp
 
+from .._version import __version__
 from ..analyses.present import trade_form
 from ..errors import ArgumentTypeError, BudgetError
 from ..model.limits import shown as _shown
@@ -142,6 +145,10 @@ def design_note(
     resistors: Mapping[str, Any] | None = None,
     grade: str = "max",
     operating: Any = None,
+    requirement: Any = None,
+    revision: str = "",
+    date: str = "",
+    source: str = "",
 ) -> str:
     """Write a design-note section for one result.
 
@@ -184,6 +191,14 @@ def design_note(
         The grade the budget took from the parameter sets.
     operating : OperatingPoint, optional
         The nominal operating point (:func:`opsym.analyses.operating.operating_point`).
+    requirement : Requirement, optional
+        The budget's total is compared with it: a PASS/FAIL line with the
+        margin follows the budget table (needs ``budget``).
+    revision, date : str
+        The design's revision and date, stated in the note's record (``date``
+        defaults to today).
+    source : str
+        The design file the note was written from.
 
     Returns
     -------
@@ -193,12 +208,15 @@ def design_note(
     circuit = getattr(result, "circuit", None)
     elements = (element_lines(circuit, values, parameters, resistors, grade)
                 if circuit is not None else [])  # fmt: skip
+    record = _record(revision, date, source, parameters, grade)
     sections = [
+        Section("Record", (Bullets(tuple(map(Text, record))),)),
         Section("Circuit", (Bullets(tuple(map(Text, elements or ["(no circuit attached)"]))),)),
         *_operating_section(operating),
         *_conventions_section(circuit),
         *_terms_sections(result, list(conditions), list(choices)),
         *_budget_sections(budget, [*studies], sweep, figure_list(figures)),
+        *_requirement_section(budget, requirement),
         *(s.section() for s in (frequency, noise) if s is not None),
         Section("Caution", (Paragraph(CAUTION),)),
     ]
@@ -207,6 +225,39 @@ def design_note(
     if fmt == "markdown":
         return markdown(doc)
     return _standalone(latex(doc)) if standalone else latex(doc)
+
+
+def _record(
+    revision: str, date: str, source: str, parameters: Mapping[str, Any] | None, grade: str
+) -> list[str]:
+    """What the note was written from: file, revision, date, tool, parameter sets."""
+    lines = [f"Design file: {os.path.basename(source)}"] if source and source != "<text>" else []
+    lines += [f"Revision: {revision}"] if revision else []
+    lines.append(f"Date: {date or datetime.date.today().isoformat()}")
+    lines.append(f"Written by opsym {__version__}")
+    sets = sorted((parameters or {}).items())
+    if sets:
+        which = "datasheet limits" if grade == "max" else "typical values"
+        named = "; ".join(f"{amp}: {getattr(p, 'name', '') or 'own values'}" for amp, p in sets)
+        lines.append(f"Parameter sets ({which}): {named}")
+    return lines
+
+
+def _requirement_section(budget: Any, requirement: Any) -> list[Section]:
+    """The PASS/FAIL line of the budget against the requirement, in bold."""
+    if requirement is None:
+        return []
+    if budget is None:
+        raise BudgetError(
+            "design_note: a requirement needs the budget to compare; pass budget=error_budget(...)"
+        )
+    if not hasattr(requirement, "verdict"):
+        raise ArgumentTypeError(
+            "design_note: requirement= takes a Requirement, e.g. "
+            f"Requirement(max_output_error='5 mV'), not a {type(requirement).__name__}"
+        )
+    line = requirement.verdict(budget).line()
+    return [Section("Requirement", (Bullets((Text(line, strong=True),)),))]
 
 
 def _check_arguments(result: Any, fmt: Any, frequency: Any, noise: Any) -> None:

@@ -147,6 +147,8 @@ def study_note(
         figures=figures(BUDGET), frequency=frequency, noise=noise, fmt=fmt,
         standalone=standalone, values=d.values, notes=d.notes, parameters=d.opamps,
         resistors=d.resistors, grade=study_grade(study), operating=study.operating,
+        requirement=d.requirement if study.budget is not None else None,
+        revision=d.revision, date=d.date, source=d.source,
     )  # fmt: skip
 
 

@@ -64,13 +64,18 @@ def summary_text(study: Study) -> str:
     ]
     for table in _tables(study):
         lines += ["", table]
+    d = study.design
+    if d.requirement is not None and study.budget is not None:
+        lines += ["", d.requirement.verdict(study.budget).line()]
     return "\n".join(lines) + "\n"
 
 
 def _header(study: Study) -> list[str]:
     d = study.design
     rule = "=" * min(78, max(20, len(d.title) + len(d.source) + 4))
-    return [f"{d.title}  ({d.source})", rule, *([d.notes, ""] if d.notes else [])]
+    record = ", ".join(x for x in (d.revision and f"revision {d.revision}", d.date) if x)
+    head = [f"{d.title}  ({d.source})" + (f"  {record}" if record else ""), rule]
+    return [*head, *([d.notes, ""] if d.notes else [])]
 
 
 def _elements(study: Study) -> list[str]:
