@@ -91,7 +91,9 @@ else:  # pragma: no cover - Python 3.10 reads TOML with the tomli backport
 
 __all__ = ["load_design", "parse_design"]  # the Design record lives in .design
 
-_TOP_KEYS = ("format", "title", "notes", "revision", "date", "output", "input", "rails", *ELEMENT_TABLES)
+_TOP_KEYS = (
+    "format", "title", "notes", "revision", "date", "output", "input", "rails", *ELEMENT_TABLES,
+)  # fmt: skip
 _SETTING_TABLES = ("analysis", "budget", "tolerance", "response", "noise", "requirement")
 
 

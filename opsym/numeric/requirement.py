@@ -84,7 +84,8 @@ class Requirement:
     sum: str = "worst-case"
 
     def __post_init__(self) -> None:
-        given = [k for k in ("max_output_error", "max_input_error") if getattr(self, k) is not None]
+        keys = ("max_output_error", "max_input_error")
+        given = [k for k in keys if getattr(self, k) is not None]
         if len(given) != 1:
             raise BudgetError(
                 "Requirement: give exactly one of max_output_error and max_input_error, "
