@@ -43,6 +43,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
+from ..numeric.units import format_plain
 from .circuit_text import element_lines
 from .report import study_grade
 
@@ -100,7 +101,9 @@ def _terms(study: Study) -> list[str]:
     for source in res.terms:
         coeff = res.coefficient(source)  # collected over one denominator, cached
         number = study.numbers.get(source)
-        tail = f"   [= {number:.6g}]" if number is not None and not coeff.is_number else ""
+        tail = ""
+        if number is not None and not coeff.is_number:
+            tail = f"   [= {format_plain(number, '', 6)}]"
         out.append(f"  {source!s:>{width}} x {coeff}{tail}")
     return out
 
