@@ -44,6 +44,7 @@ from ..model.limits import shown as _shown
 from ..model.nonideal import KINDS
 from ..model.symbols import latex_name
 from .circuit_text import element_lines
+from .display import broken_latex, first_order_latex, too_wide
 from .document import (
     Block,
     Bullets,
@@ -303,12 +304,45 @@ def _terms_sections(result: Any, conditions: list[Any], choices: list[Any]) -> l
         shown = result.with_average_bias()
     names = _names(shown, conditions)
     terms = shown.latex(names) if hasattr(shown, "latex") else sp.latex(shown.expression)
-    out = [Section("Symbolic terms", (Math(terms),))]
+    out = [Section("Symbolic terms", _terms_blocks(shown, terms, names))]
     if conditions or choices:
         items = [Text(_condition_latex(eq, names), math=True) for eq in conditions]
         items += [Text(ch.describe()) for ch in choices]
         out.append(Section("Conditions", (Bullets(tuple(items)),)))
     return out
+
+
+#: What a note says when it shows the ideal form and the first-order correction.
+_IDEAL = (
+    "The exact form, with each op-amp's open-loop gain A inside, is too long to print; "
+    "with ideal op-amps (A → ∞) the output is:"
+)
+_CORRECTION = (
+    "Finite open-loop gain changes the signal gain G by, to first order in 1/A "
+    "(β: the feedback factor each op-amp sees; the budget's numbers use the exact form):"
+)
+
+
+def _terms_blocks(result: Any, terms: str, names: dict) -> tuple[Block, ...]:
+    """The output in closed form, kept within the page.
+
+    Printed as it is when every line fits; with finite open-loop gains, as the
+    ideal form plus the first-order gain error of each signal; otherwise with
+    long coefficients broken between their terms.
+    """
+    if not too_wide(terms) or getattr(result, "domain", "dc") != "dc":
+        return (Math(terms),)
+    ideal = result.ideal()
+    if ideal is result:
+        return (Math(broken_latex(result, names)),)
+    blocks: list[Block] = [Paragraph(_IDEAL), Math(broken_latex(ideal, names))]
+    corrections: list[Block] = []
+    for signal in result.signals:
+        if ideal.coefficient(signal) != 0:
+            corrections += [Math(tex) for tex in first_order_latex(result, signal, names)]
+    if corrections:
+        blocks += [Paragraph(_CORRECTION), *corrections]
+    return tuple(blocks)
 
 
 def _budget_sections(
