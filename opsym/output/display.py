@@ -28,7 +28,9 @@ import sympy as sp
 from ..analyses.present import trade_form
 from ..model.symbols import LAPLACE
 
-__all__ = ["WIDTH", "broken_latex", "first_order_latex", "too_wide", "wrapped"]
+__all__ = [
+    "WIDTH", "broken_latex", "first_order_latex", "ideal_coefficients", "too_wide", "wrapped",
+]  # fmt: skip
 
 #: The longest line of display-math source a note prints as it is.
 WIDTH = 150
@@ -108,7 +110,12 @@ def _source_lines(
     return [f"{sign} {source} \\cdot " + parts[0], *(r"\qquad " + p for p in parts[1:])]
 
 
-def broken_latex(result: Any, names: Mapping[sp.Symbol, str], width: int = WIDTH) -> str:
+def broken_latex(
+    result: Any,
+    names: Mapping[sp.Symbol, str],
+    width: int = WIDTH,
+    coefficients: Mapping[sp.Symbol, sp.Expr] | None = None,
+) -> str:
     r"""The output as an ``aligned`` block, one source per line, long ones broken.
 
     Examples
@@ -131,7 +138,8 @@ def broken_latex(result: Any, names: Mapping[sp.Symbol, str], width: int = WIDTH
     table = {**result.symbol_latex(), **names}
     lines: list[str] = []
     for info in result.sources:
-        coeff = result.coefficient(info.symbol)
+        coeff = (result.coefficient(info.symbol) if coefficients is None
+                 else coefficients.get(info.symbol, sp.S.Zero))  # fmt: skip
         if coeff != 0:
             source = table.get(info.symbol, sp.latex(info.symbol))
             lines += _source_lines(coeff, source, table, width)
@@ -142,11 +150,57 @@ def broken_latex(result: Any, names: Mapping[sp.Symbol, str], width: int = WIDTH
     return "\\begin{aligned}\n" + " \\\\\n".join([head, *rest]) + "\n\\end{aligned}"
 
 
-def _gains(result: Any, error: sp.Expr) -> list[sp.Symbol]:
-    """The open-loop gain symbols of the result's op-amps left in ``error``, by name."""
-    found = {g for a in result.circuit.opamps if a.gain is not None
-             for g in getattr(a.gain, "free_symbols", ()) if g != LAPLACE}  # fmt: skip
-    return sorted(found & error.free_symbols, key=str)
+def _gains(result: Any) -> list[sp.Symbol] | None:
+    """The open-loop gain symbols of the result's op-amps, by name; ``None`` when an
+    op-amp's gain is a number (it has no limit to take) or there are none."""
+    found: set[sp.Symbol] = set()
+    for amp in result.circuit.opamps:
+        if amp.gain is not None:
+            own = {g for g in getattr(amp.gain, "free_symbols", ()) if g != LAPLACE}
+            if not own:
+                return None
+            found |= own
+    return sorted(found, key=str) or None
+
+
+def _at_zero(coeff: sp.Expr, inverse: Mapping[sp.Symbol, sp.Symbol]) -> tuple[sp.Expr, sp.Expr]:
+    """Numerator and denominator of ``coeff`` as polynomials in ``x_k = 1/A_k``."""
+    swapped = coeff.xreplace({g: 1 / x for g, x in inverse.items()})
+    num, den = sp.fraction(sp.cancel(sp.together(swapped)))
+    return sp.expand(num), sp.expand(den)
+
+
+def ideal_coefficients(result: Any) -> dict[sp.Symbol, sp.Expr] | None:
+    """Every coefficient with the open-loop gains taken to ∞ (each ``1/A_k`` → 0).
+
+    Worked out from the coefficients themselves, with no second derivation;
+    ``None`` when there is no finite limit to take (a gain fixed to a number, a
+    coefficient that grows with the gains).
+
+    Examples
+    --------
+    >>> import opsym
+    >>> c = opsym.Circuit()
+    >>> c.voltage_source("Vs", "p", "0")
+    >>> c.resistor("R1", "n", "0")
+    >>> c.resistor("R2", "n", "out")
+    >>> c.opamp("U1", plus="p", minus="n", out="out", gain="finite", bias=False)
+    >>> ideal_coefficients(c.analyze("out"))
+    {Vs: (R1 + R2)/R1, U1.Vos: (R1 + R2)/R1}
+    """
+    gains = _gains(result)
+    if gains is None:
+        return None
+    inverse = {g: sp.Dummy(f"x_{g}") for g in gains}
+    zero = dict.fromkeys(inverse.values(), 0)
+    out = {}
+    for info in result.sources:
+        num, den = _at_zero(result.coefficient(info.symbol), inverse)
+        d0 = den.xreplace(zero)
+        if d0 == 0:
+            return None
+        out[info.symbol] = sp.factor(num.xreplace(zero) / d0)
+    return out
 
 
 def first_order_latex(
@@ -159,15 +213,18 @@ def first_order_latex(
     factor that op-amp sees (``β = R1/(R1 + R2)`` for one non-inverting stage).
     """
     table = {**result.symbol_latex(), **names}
-    error = result.gain_error(signal, order=1)
-    gains = _gains(result, error)
+    gains = _gains(result) or []
     inverse = {g: sp.Dummy(f"x_{g}") for g in gains}
-    linear = sp.expand(error.xreplace({g: 1 / inverse[g] for g in gains}))
+    zero = dict.fromkeys(inverse.values(), 0)
+    num, den = _at_zero(result.coefficient(result._signal(signal)), inverse)
+    n0, d0 = num.xreplace(zero), den.xreplace(zero)
     head, blocks = [], []
     sig = table.get(result._signal(signal), "")
     several = len(result.signals) > 1  # each signal's β differ: marked with the signal
     for g in gains:
-        share = sp.factor(sp.diff(linear, inverse[g]))
+        x = inverse[g]  # d(G/G0)/dx at x = 0: N'/N − D'/D there
+        slope = sp.diff(num, x).xreplace(zero) / n0 - sp.diff(den, x).xreplace(zero) / d0
+        share = sp.factor(slope)
         if share == 0:
             continue
         amp = str(g).rsplit(".", 1)[0]

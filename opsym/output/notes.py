@@ -44,7 +44,7 @@ from ..model.limits import shown as _shown
 from ..model.nonideal import KINDS
 from ..model.symbols import latex_name
 from .circuit_text import element_lines
-from .display import broken_latex, first_order_latex, too_wide
+from .display import broken_latex, first_order_latex, ideal_coefficients, too_wide
 from .document import (
     Block,
     Bullets,
@@ -332,13 +332,14 @@ def _terms_blocks(result: Any, terms: str, names: dict) -> tuple[Block, ...]:
     """
     if not too_wide(terms) or getattr(result, "domain", "dc") != "dc":
         return (Math(terms),)
-    ideal = result.ideal()
-    if ideal is result:
+    ideal = ideal_coefficients(result)  # from the coefficients: no second derivation
+    if ideal is None:
         return (Math(broken_latex(result, names)),)
-    blocks: list[Block] = [Paragraph(_IDEAL), Math(broken_latex(ideal, names))]
+    shown = broken_latex(result, names, coefficients=ideal)
+    blocks: list[Block] = [Paragraph(_IDEAL), Math(shown)]
     corrections: list[Block] = []
     for signal in result.signals:
-        if ideal.coefficient(signal) != 0:
+        if ideal.get(signal, 0) != 0:
             corrections += [Math(tex) for tex in first_order_latex(result, signal, names)]
     if corrections:
         blocks += [Paragraph(_CORRECTION), *corrections]
