@@ -18,6 +18,7 @@ Examples
 <class 'opsym.model.circuit.Circuit'>
 """
 
+from ._version import __version__
 from .analyses.loop import LoopGain, loop_gain
 from .analyses.noise import NoiseResult
 from .analyses.noise_figure import (
@@ -88,6 +89,7 @@ from .numeric import (
     preferred_value,
     resistor_parameters,
 )
+from .numeric.requirement import Requirement
 from .numeric.stability import Margins
 from .output import FrequencySection, NoiseSection, design_note
 from .output.latex import transfer_latex
@@ -102,8 +104,6 @@ from .study import (
 )
 from .study.noise import NoiseBudget
 from .values import parse_value
-
-__version__ = "0.1.0"
 
 __all__ = [
     "ADC",
@@ -146,6 +146,7 @@ __all__ = [
     "PinAdmittance",
     "PinCurrent",
     "PortImpedance",
+    "Requirement",
     "ResistorParams",
     "Result",
     "SeriesVoltage",

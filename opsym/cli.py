@@ -150,8 +150,8 @@ def _parser() -> argparse.ArgumentParser:
 
     rewrite = commands.add_parser(
         "rewrite", help="print a design file as opsym writes it",
-        description="Read a design file and print it in opsym's own layout (the same design: "
-        "comments are not kept).",
+        description="Read a design file and print it in opsym's own layout (the same design, "
+        "its # comments kept beside the tables and keys they annotate).",
     )  # fmt: skip
     rewrite.add_argument("file", metavar="FILE", help="design file (.toml)")
     rewrite.set_defaults(run=_rewrite)
@@ -231,7 +231,10 @@ def _check(args: argparse.Namespace) -> int:
 
 def _rewrite(args: argparse.Namespace) -> int:
 
-    sys.stdout.write(dump_design(designfile.load_design(args.file)))
+    design = designfile.load_design(args.file)
+    toml = Path(args.file).suffix.lower() == ".toml"  # a netlist's comments are not TOML
+    original = Path(args.file).read_text(encoding="utf-8") if toml else None
+    sys.stdout.write(dump_design(design, comments=original))
     return 0
 
 

@@ -19,7 +19,7 @@ PACKAGE = Path(__file__).parents[1] / "opsym"
 
 #: Lowest first. A module may import only from its own layer or a lower one.
 LAYERS = (
-    ("opsym.errors", "opsym.values", "opsym._services"),
+    ("opsym.errors", "opsym.values", "opsym._services", "opsym._version"),
     ("opsym.model",),
     ("opsym.equations",),
     ("opsym.numeric",),

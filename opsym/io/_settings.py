@@ -16,6 +16,7 @@ from ..model.circuit import Circuit
 from ..model.elements import CurrentSource, Resistor, VoltageSource
 from ..model.nonideal import KINDS
 from ..numeric.params import OpAmpParams, ResistorParams, resistor_parameters
+from ..numeric.requirement import SUMS, Requirement
 from ._tables import Table
 from .design import (
     BudgetSettings,
@@ -122,6 +123,20 @@ class SettingsReader:
             adc.finish()
         t.finish()
         return BudgetSettings(grade, temps, full_scale, bits, reference, adc_range)
+
+    def requirement(self, t: Table) -> Requirement:
+        """``[requirement]``: one limit (``max-output-error`` or ``max-input-error``) and a sum."""
+        given = [k for k in ("max-output-error", "max-input-error") if t.has(k)]
+        if len(given) != 1:
+            raise t.error(None, "give one limit: max-output-error = \"5 mV\" or "
+                          "max-input-error = \"50 µV\"")  # fmt: skip
+        value = t.take_value(given[0], unit="V", required=True)
+        if value is None or not value > 0:
+            raise t.error(given[0], "give a limit above 0 V, e.g. \"5 mV\"")
+        total = t.take_str("sum", "worst-case", choices=SUMS) or "worst-case"
+        t.finish()
+        key = given[0].replace("-", "_")
+        return Requirement(**{key: float(value)}, sum=total)
 
     def tolerance(
         self, t: Table | None, circuit: Circuit

@@ -19,6 +19,7 @@ from ..model.elements import TWO_TERMINALS, OpAmp
 from ..model.nonideal import kind_of
 from ..model.symbols import SYMBOLS
 from ..numeric.params import OpAmpParams, ResistorParams
+from ..numeric.requirement import Requirement
 
 if TYPE_CHECKING:
     from ..analyses.result import Result
@@ -174,6 +175,11 @@ class Design:
         The E-series for the standard values that meet null conditions.
     source : str
         The file it came from (``"<text>"`` for text).
+    revision, date : str
+        The design's revision and date for the notes (``""``: not given; the
+        notes then print today's date).
+    requirement : Requirement or None
+        The ``[requirement]`` the budget is checked against (PASS/FAIL).
     """
 
     circuit: Circuit
@@ -195,6 +201,9 @@ class Design:
     noise: NoiseSettings | None = None
     rails: Mapping[str, tuple[sp.Expr, sp.Expr]] = field(default_factory=dict)
     supply: tuple[sp.Expr, sp.Expr] | None = None
+    revision: str = ""
+    date: str = ""
+    requirement: Requirement | None = None
 
     def __post_init__(self) -> None:
         for name in ("values", "opamps", "resistors", "rails"):

@@ -91,8 +91,10 @@ else:  # pragma: no cover - Python 3.10 reads TOML with the tomli backport
 
 __all__ = ["load_design", "parse_design"]  # the Design record lives in .design
 
-_TOP_KEYS = ("format", "title", "notes", "output", "input", "rails", *ELEMENT_TABLES)
-_SETTING_TABLES = ("analysis", "budget", "tolerance", "response", "noise")
+_TOP_KEYS = (
+    "format", "title", "notes", "revision", "date", "output", "input", "rails", *ELEMENT_TABLES,
+)  # fmt: skip
+_SETTING_TABLES = ("analysis", "budget", "tolerance", "response", "noise", "requirement")
 
 
 def load_design(path: str | os.PathLike[str], **options: Any) -> Design:
@@ -147,6 +149,8 @@ class _Reader(SettingsReader):
             raise top.error("format", f"format {fmt} is not known; this opsym reads format 1")
         title = top.take_str("title", default=None)
         notes = top.take_str("notes", default="") or ""
+        revision = top.take_str("revision", default="") or ""
+        date = top.take_str("date", default="") or ""
         supply = self.take_rails(top)
         if title is None:
             stem = os.path.splitext(os.path.basename(self.file))[0]
@@ -196,6 +200,9 @@ class _Reader(SettingsReader):
             response = self.response(settings["response"], signal)
         if settings["noise"] is not None:
             noise = self.noise(settings["noise"], circuit, signal)
+        requirement = None
+        if settings["requirement"] is not None:
+            requirement = self.requirement(settings["requirement"])
         try:
             check_topology(circuit)
         except OpsymError as err:
@@ -204,6 +211,7 @@ class _Reader(SettingsReader):
             circuit, output, self.values, signal, self.opamps, self.resistors, nulls,
             sensitivity, budget, tolerance, average, notes, self.file, default, series,
             response=response, noise=noise, rails=self.rails, supply=supply,
+            revision=revision, date=date, requirement=requirement,
         )  # fmt: skip
 
     # -- elements ----------------------------------------------------------------------

@@ -68,6 +68,7 @@ from ..numeric.params import (
     field_units,
 )
 from ..values import to_exact
+from ._comments import keep_comments
 from .design import DEFAULT_INCLUDE, FORMAT, Design, opamp_values
 from .formatting import format_value, plain_decimal
 
@@ -83,6 +84,7 @@ def dump_design(
     *,
     output: str | tuple[str, str] | None = None,
     values: Mapping[Any, Any] | None = None,
+    comments: str | None = None,
 ) -> str:
     """Write a design file for ``design`` and return its text.
 
@@ -96,6 +98,10 @@ def dump_design(
     values : mapping, optional
         Nominal numbers by name or symbol (``{"R1": "10k"}``) for elements
         that stay symbolic; merged over the design's own.
+    comments : str, optional
+        The text of the design file as written by hand: its ``#`` comments
+        are kept, at the tables and keys they stood beside
+        (:func:`opsym.io._comments.keep_comments`).
 
     Raises
     ------
@@ -120,11 +126,12 @@ def dump_design(
         name = key.name if isinstance(key, sp.Symbol) else str(key)
         nominal[name] = to_exact(v, f"values[{name}]")
     try:
-        return _Writer(circuit, out, nominal, base).text()
+        text = _Writer(circuit, out, nominal, base).text()
     except OpsymError as err:
         if isinstance(err, DesignFileError):
             raise
         raise DesignFileError(f"dump_design: {err}") from err
+    return text if comments is None else keep_comments(comments, text)
 
 
 class _Writer:
@@ -144,6 +151,9 @@ class _Writer:
         self.key("title", self.circuit.title)
         if b and b.notes:
             self.key("notes", b.notes)
+        for key in ("revision", "date"):
+            if b and getattr(b, key):
+                self.key(key, getattr(b, key))
         out = list(self.output) if isinstance(self.output, tuple) else self.output
         self.key("output", out)
         if b and b.signal is not None and self._signals() != [b.signal]:
@@ -313,6 +323,11 @@ class _Writer:
             if n.signal is not None and (b.signal is None or n.signal != b.signal):
                 body["signal"] = n.signal
             self.table("noise", body)
+        if b.requirement is not None:
+            req = b.requirement
+            key = f"max-{req.referred}-error"
+            limit = _with_unit(format_value(Fraction(repr(req.limit))), "V")
+            self.table("requirement", {key: limit, "sum": req.sum})
 
     def table(self, name: str, body: dict[str, Any]) -> None:
         if body:

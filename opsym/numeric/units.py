@@ -36,6 +36,7 @@ from ..values import _MAX_DB, parse_value, to_exact
 
 __all__ = [
     "db_to_ratio",
+    "format_plain",
     "format_si",
     "parse_db",
     "parse_fraction",
@@ -261,6 +262,42 @@ def format_si(x: float, unit: str = "", digits: int = 4, *, latex: bool = False)
             .replace("%", r"\%")
         )
     return text
+
+
+def format_plain(x: float, unit: str = "", digits: int = 4) -> str:
+    """Write ``x`` to ``digits`` significant figures, never in e-notation.
+
+    Between 0.001 and 10⁹ the number is written in full (``57710``,
+    ``0.01234``); outside that range with an SI prefix on ``unit``
+    (``31.94 µV/V``, ``5 GV/V``), as a table cell or a note can print it.
+
+    Examples
+    --------
+    >>> format_plain(57712.3, "V/V")
+    '57710 V/V'
+    >>> format_plain(3.1939e-05, "V/V")
+    '31.94 µV/V'
+    >>> format_plain(5e6)
+    '5000000'
+    >>> format_plain(-0.0123456, digits=3)
+    '-0.0123'
+    >>> format_plain(0.0)
+    '0'
+    """
+    value = float(x)
+    suffix = f" {unit}" if unit else ""
+    if value == 0 or not math.isfinite(value):
+        return ("0" if value == 0 else format_si(value)) + suffix
+    if not 1e-3 <= abs(value) < 1e9:
+        return format_si(value, unit, digits)
+    exponent = math.floor(math.log10(abs(float(f"{value:.{digits - 1}e}"))))
+    decimals = max(0, digits - 1 - exponent)
+    text = f"{round(value, decimals - 0):.{decimals}f}"
+    if "." in text:
+        text = text.rstrip("0").rstrip(".")
+    if decimals == 0:  # round to the significant figures left of the point
+        text = str(int(round(value, digits - 1 - exponent)))
+    return text + suffix
 
 
 def parse_fraction(text: Any, *, where: str = "value") -> float:

@@ -39,7 +39,7 @@ import sympy as sp
 from ..model.nonideal import MultiPole, SinglePole
 from ..model.symbols import SYMBOLS
 from ..numeric.params import registered_fields
-from ..numeric.units import format_si, parse_quantity
+from ..numeric.units import format_plain, format_si, parse_quantity
 
 __all__ = ["element_lines", "parameter_text"]
 
@@ -53,7 +53,7 @@ def _number(value: Any, where: str) -> float | None:
 
 
 def _quantity(x: float, unit: str) -> str:
-    return format_si(x, unit) if unit else f"{x:g}"
+    return format_si(x, unit) if unit else format_plain(x, "", 6)
 
 
 def parameter_text(params: Any, grade: str = "max", omit: frozenset[str] = frozenset()) -> str:
@@ -81,7 +81,7 @@ def parameter_text(params: Any, grade: str = "max", omit: frozenset[str] = froze
               ("PSRR", params.psrr_min_db if limit else params.psrr_typ_db, "dB"))  # fmt: skip
     for what, v, unit in ratios:
         if math.isfinite(v) and what not in omit:
-            parts.append(f"{what} {v:g} {unit}")
+            parts.append(f"{what} {format_plain(v, unit, 6)}")
     for what, v, unit in (("GBW", params.gbw_typ, "Hz"), ("en", params.en_typ, "V/√Hz"),
                           ("in", params.in_typ, "A/√Hz"), ("fce", params.fce, "Hz"),
                           ("fci", params.fci, "Hz")):  # fmt: skip
@@ -120,7 +120,7 @@ def _opamp_text(amp: Any, given: Mapping[str, Any]) -> str:
         further = "".join(f"(1 + s/(2π·f{k}))" for k in range(2, poles + 1))
         gain = f"{poles}-pole open-loop gain A0/((1 + s·A0/(2π·GBW)){further})"
     elif amp.gain.is_number:
-        gain = f"open-loop gain {float(amp.gain):g} V/V"
+        gain = f"open-loop gain {format_plain(float(amp.gain), 'V/V', 6)}"
     else:
         gain = f"open-loop gain {amp.gain}"
     kinds = ", ".join(n.kind for n in amp.nonideals) or "none"

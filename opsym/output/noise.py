@@ -25,7 +25,7 @@ from ..analyses.noise import PEAK_TO_PEAK_RULE
 from ..errors import ArgumentTypeError
 from ..model.limits import expect_mapping
 from ..model.symbols import component_symbol, latex_name
-from ..numeric.units import format_si
+from ..numeric.units import format_plain, format_si
 from .laplace import number_latex, transfer_terms
 from .tables import SHORT_CAUTION, Table
 
@@ -60,7 +60,7 @@ def noise_table(budget: NoiseBudget) -> Table:
     notes = (
         "Sources are uncorrelated: powers add, RMS = √(Σ rms_k²); share = rms_k²/total².",
         f"Resistors at {budget.temperature - 273.15:g} °C ({budget.temperature:g} K), "
-        "4kTR with k = 1.380649e-23 J/K (SI, exact).",
+        "4kTR with k = 13.80649 yJ/K (the SI value, exact).",
         PEAK_TO_PEAK_RULE + ".",
         *_accuracy_note(budget),
         SHORT_CAUTION,
@@ -80,10 +80,11 @@ def _accuracy_note(budget: NoiseBudget) -> tuple[str, ...]:
     if budget.total_error is None:
         return ()
     relative = budget.total_error / budget.total if budget.total > 0 else 0.0
+    share = "below 1 ppm" if relative < 1e-6 else format_plain(relative * 1e6, "ppm", 2)
     return (
         "Band integrals: adaptive Gauss–Kronrod in ln f, break points at every pole and "
-        f"zero; estimated error of the total ±{budget.total_error:.1e} V rms "
-        f"({relative:.1e} relative).",
+        f"zero; estimated error of the total ±{format_si(budget.total_error, 'V', 2)} rms "
+        f"({share} of it).",
     )
 
 

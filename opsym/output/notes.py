@@ -30,17 +30,21 @@ True
 
 from __future__ import annotations
 
+import datetime
+import os
 from collections.abc import Iterable, Mapping
 from typing import Any
 
 import sympy as sp
 
+from .._version import __version__
 from ..analyses.present import trade_form
 from ..errors import ArgumentTypeError, BudgetError
 from ..model.limits import shown as _shown
 from ..model.nonideal import KINDS
 from ..model.symbols import latex_name
 from .circuit_text import element_lines
+from .display import broken_latex, first_order_latex, ideal_coefficients, too_wide
 from .document import (
     Block,
     Bullets,
@@ -143,6 +147,10 @@ def design_note(
     grade: str = "max",
     operating: Any = None,
     stability: Any = None,
+    requirement: Any = None,
+    revision: str = "",
+    date: str = "",
+    source: str = "",
 ) -> str:
     """Write a design-note section for one result.
 
@@ -187,6 +195,14 @@ def design_note(
         The nominal operating point (:func:`opsym.analyses.operating.operating_point`).
     stability : StabilitySection, optional
         Each op-amp loop's margins and warnings (:mod:`opsym.output.stability`).
+    requirement : Requirement, optional
+        The budget's total is compared with it: a PASS/FAIL line with the
+        margin follows the budget table (needs ``budget``).
+    revision, date : str
+        The design's revision and date, stated in the note's record (``date``
+        defaults to today).
+    source : str
+        The design file the note was written from.
 
     Returns
     -------
@@ -196,12 +212,15 @@ def design_note(
     circuit = getattr(result, "circuit", None)
     elements = (element_lines(circuit, values, parameters, resistors, grade)
                 if circuit is not None else [])  # fmt: skip
+    record = _record(revision, date, source, parameters, grade)
     sections = [
+        Section("Record", (Bullets(tuple(map(Text, record))),)),
         Section("Circuit", (Bullets(tuple(map(Text, elements or ["(no circuit attached)"]))),)),
         *_operating_section(operating),
         *_conventions_section(circuit),
         *_terms_sections(result, list(conditions), list(choices)),
         *_budget_sections(budget, [*studies], sweep, figure_list(figures)),
+        *_requirement_section(budget, requirement),
         *(s.section() for s in (frequency, stability, noise) if s is not None),
         Section("Caution", (Paragraph(CAUTION),)),
     ]
@@ -210,6 +229,39 @@ def design_note(
     if fmt == "markdown":
         return markdown(doc)
     return _standalone(latex(doc)) if standalone else latex(doc)
+
+
+def _record(
+    revision: str, date: str, source: str, parameters: Mapping[str, Any] | None, grade: str
+) -> list[str]:
+    """What the note was written from: file, revision, date, tool, parameter sets."""
+    lines = [f"Design file: {os.path.basename(source)}"] if source and source != "<text>" else []
+    lines += [f"Revision: {revision}"] if revision else []
+    lines.append(f"Date: {date or datetime.date.today().isoformat()}")
+    lines.append(f"Written by opsym {__version__}")
+    sets = sorted((parameters or {}).items())
+    if sets:
+        which = "datasheet limits" if grade == "max" else "typical values"
+        named = "; ".join(f"{amp}: {getattr(p, 'name', '') or 'own values'}" for amp, p in sets)
+        lines.append(f"Parameter sets ({which}): {named}")
+    return lines
+
+
+def _requirement_section(budget: Any, requirement: Any) -> list[Section]:
+    """The PASS/FAIL line of the budget against the requirement, in bold."""
+    if requirement is None:
+        return []
+    if budget is None:
+        raise BudgetError(
+            "design_note: a requirement needs the budget to compare; pass budget=error_budget(...)"
+        )
+    if not hasattr(requirement, "verdict"):
+        raise ArgumentTypeError(
+            "design_note: requirement= takes a Requirement, e.g. "
+            f"Requirement(max_output_error='5 mV'), not a {type(requirement).__name__}"
+        )
+    line = requirement.verdict(budget).line()
+    return [Section("Requirement", (Bullets((Text(line, strong=True),)),))]
 
 
 def _check_arguments(result: Any, fmt: Any, frequency: Any, noise: Any) -> None:
@@ -255,12 +307,46 @@ def _terms_sections(result: Any, conditions: list[Any], choices: list[Any]) -> l
         shown = result.with_average_bias()
     names = _names(shown, conditions)
     terms = shown.latex(names) if hasattr(shown, "latex") else sp.latex(shown.expression)
-    out = [Section("Symbolic terms", (Math(terms),))]
+    out = [Section("Symbolic terms", _terms_blocks(shown, terms, names))]
     if conditions or choices:
         items = [Text(_condition_latex(eq, names), math=True) for eq in conditions]
         items += [Text(ch.describe()) for ch in choices]
         out.append(Section("Conditions", (Bullets(tuple(items)),)))
     return out
+
+
+#: What a note says when it shows the ideal form and the first-order correction.
+_IDEAL = (
+    "The exact form, with each op-amp's open-loop gain A inside, is too long to print; "
+    "with ideal op-amps (A → ∞) the output is:"
+)
+_CORRECTION = (
+    "Finite open-loop gain changes the signal gain G by, to first order in 1/A "
+    "(β: the feedback factor each op-amp sees; the budget's numbers use the exact form):"
+)
+
+
+def _terms_blocks(result: Any, terms: str, names: dict) -> tuple[Block, ...]:
+    """The output in closed form, kept within the page.
+
+    Printed as it is when every line fits; with finite open-loop gains, as the
+    ideal form plus the first-order gain error of each signal; otherwise with
+    long coefficients broken between their terms.
+    """
+    if not too_wide(terms) or getattr(result, "domain", "dc") != "dc":
+        return (Math(terms),)
+    ideal = ideal_coefficients(result)  # from the coefficients: no second derivation
+    if ideal is None:
+        return (Math(broken_latex(result, names)),)
+    shown = broken_latex(result, names, coefficients=ideal)
+    blocks: list[Block] = [Paragraph(_IDEAL), Math(shown)]
+    corrections: list[Block] = []
+    for signal in result.signals:
+        if ideal.get(signal, 0) != 0:
+            corrections += [Math(tex) for tex in first_order_latex(result, signal, names)]
+    if corrections:
+        blocks += [Paragraph(_CORRECTION), *corrections]
+    return tuple(blocks)
 
 
 def _budget_sections(

@@ -156,6 +156,8 @@ def study_note(
         standalone=standalone, values=d.values, notes=d.notes, parameters=d.opamps,
         resistors=d.resistors, grade=study_grade(study), operating=study.operating,
         stability=StabilitySection(study.stability) if study.stability else None,
+        requirement=d.requirement if study.budget is not None else None,
+        revision=d.revision, date=d.date, source=d.source,
     )  # fmt: skip
 
 

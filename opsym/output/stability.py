@@ -21,7 +21,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 from typing import Any
 
-from ..numeric.units import format_si
+from ..numeric.units import format_plain, format_si
 from .document import (
     Bullets,
     Paragraph,
@@ -82,12 +82,12 @@ def stability_table(reports: Iterable[Any]) -> Table:
         m = r.margins
         rows.append((
             r.opamp,
-            "∞" if m.dc_gain == float("inf") else f"{m.dc_gain:.4g}",
+            "∞" if m.dc_gain == float("inf") else format_plain(m.dc_gain, digits=4),
             _hz(m.crossover_hz),
             "—" if m.phase_margin_deg is None else f"{m.phase_margin_deg:.1f}°",
             "—" if m.gain_margin_db is None else f"{m.gain_margin_db:.1f} dB",
             f"{m.peaking_db:.2f} dB",
-            "—" if m.q is None else f"{m.q:.3g}",
+            "—" if m.q is None else format_plain(m.q, digits=3),
             _hz(m.f0_hz),
             {True: "yes", False: "NO", None: "—"}[m.stable],
         ))  # fmt: skip

@@ -43,6 +43,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
+from ..numeric.units import format_plain
 from .circuit_text import element_lines
 from .report import study_grade
 
@@ -64,13 +65,18 @@ def summary_text(study: Study) -> str:
     ]
     for table in _tables(study):
         lines += ["", table]
+    d = study.design
+    if d.requirement is not None and study.budget is not None:
+        lines += ["", d.requirement.verdict(study.budget).line()]
     return "\n".join(lines) + "\n"
 
 
 def _header(study: Study) -> list[str]:
     d = study.design
     rule = "=" * min(78, max(20, len(d.title) + len(d.source) + 4))
-    return [f"{d.title}  ({d.source})", rule, *([d.notes, ""] if d.notes else [])]
+    record = ", ".join(x for x in (d.revision and f"revision {d.revision}", d.date) if x)
+    head = [f"{d.title}  ({d.source})" + (f"  {record}" if record else ""), rule]
+    return [*head, *([d.notes, ""] if d.notes else [])]
 
 
 def _elements(study: Study) -> list[str]:
@@ -95,7 +101,9 @@ def _terms(study: Study) -> list[str]:
     for source in res.terms:
         coeff = res.coefficient(source)  # collected over one denominator, cached
         number = study.numbers.get(source)
-        tail = f"   [= {number:.6g}]" if number is not None and not coeff.is_number else ""
+        tail = ""
+        if number is not None and not coeff.is_number:
+            tail = f"   [= {format_plain(number, '', 6)}]"
         out.append(f"  {source!s:>{width}} x {coeff}{tail}")
     return out
 

@@ -30,7 +30,7 @@ from ..numeric._mismatch import MAX_CORNERS, REJECTED, Rejection, Spread
 from ..numeric._numbers import LARGE_GAIN, Exact, exact_number, free_symbols_of, to_float
 from ..numeric.adc import ADC
 from ..numeric.params import OpAmpParams, ResistorParams
-from ..numeric.units import format_si, parse_quantity
+from ..numeric.units import format_plain, format_si, parse_quantity
 from ..output.tables import SHORT_CAUTION
 
 #: Words and units of each error source in the tables.
@@ -455,7 +455,7 @@ def _plan_notes(grade, derived, notes, adc, ref, signal_unit, sig) -> tuple[str,
         out.append(f"ADC: {adc.describe()}")
     if ref:
         out.append(
-            f"input-referred: output / |G|, G = {ref:.6g} V/{signal_unit} from "
+            f"input-referred: output / |G|, G = {format_plain(ref, '', 6)} V/{signal_unit} from "
             f"{sig or 'input_gain'}"
         )
     out.append(SHORT_CAUTION)

@@ -57,7 +57,7 @@ from ..model.symbols import SYMBOLS
 from ..numeric._inputs import check_values
 from ..numeric.adc import ADC
 from ..numeric.params import REFERENCE_TEMPERATURE, OpAmpParams, ResistorParams
-from ..numeric.units import format_si
+from ..numeric.units import format_plain, format_si
 from ..output.tables import Table, math_label
 from ._plan import (
     RSS_RULE,
@@ -197,13 +197,14 @@ class Budget(TableViews):
         body = []
         for r in self.rows:
             if r.source.startswith("gain:"):
-                coef = f"ΔG = {r.coefficient:+.3g}"
+                sign = "+" if r.coefficient >= 0 else ""
+                coef = "ΔG = " + sign + format_plain(r.coefficient, "", 3)
             elif r.source.startswith("tolerance:"):
-                coef = f"Δ = ±{abs(r.coefficient):.3g} V/" + r.unit
+                coef = "Δ = ±" + format_plain(abs(r.coefficient), "V/" + r.unit, 3)
             elif r.unit == "A":
                 coef = format_si(r.coefficient, "Ω")  # V/A: the trade writes it in ohms
             else:
-                coef = f"{r.coefficient:.4g} V/V"
+                coef = format_plain(r.coefficient, "V/V")
             cells = [
                 r.label,
                 format_si(r.value, r.unit),
@@ -321,7 +322,8 @@ def _cmrr_note(plan: _Plan, temperature: float, cmrr: float) -> str:
     assert rej is not None
     return (
         f"network CMRR from resistor mismatch: {cmrr:.1f} dB worst case (|Acm| ≤ "
-        f"{rej.worst_acm(temperature):.3g} V/V, Ad = {abs(rej.ad.nominal_value):.4g} V/V, "
+        f"{format_plain(rej.worst_acm(temperature), 'V/V', 3)}, "
+        f"Ad = {format_plain(abs(rej.ad.nominal_value), 'V/V')}, "
         f"{rej.acm.method}); a difference amplifier of gain K has ≈ (1 + K)/(4t) "
         "(Sedra & Smith, Microelectronic Circuits, 6th ed., §2.4)"
     )

@@ -68,7 +68,7 @@ def test_markdown_note_with_both_sections(tia, tia_note_parts):
     _, frequency, noise = tia_note_parts
     md = design_note(tia, frequency=frequency, noise=noise, fmt="markdown")
     headings = [line for line in md.splitlines() if line.startswith("### ")]
-    assert headings == ["### Circuit", "### Conventions", "### Symbolic terms",
+    assert headings == ["### Record", "### Circuit", "### Conventions", "### Symbolic terms",
                         "### Frequency response", "### Noise", "### Caution"]  # fmt: skip
     assert md.rstrip().endswith(CAUTION)  # the caution stays last
     assert "single-pole open-loop gain A0/(1 + s·A0/(2π·GBW))" in md
