@@ -176,3 +176,23 @@ def test_common_mode_is_derived_once_per_root(derivations):
     assert b.common_mode("U1") == sp.Rational(9, 4)
     assert a.common_mode("U1") == sp.Rational(3, 2)
     assert derivations == Counter({"derive/dc": 2})  # the two pins, once for both results
+
+
+def test_without_a_budget_table_the_gain_is_the_sets_limit_as_the_budget_says():
+    """No [budget] table: the budget is at its default grade, the limits (min A), and the
+    gain put in must be a_min too, not a_typ [derived: G(A) − G(∞) for a follower,
+    A/(1 + A) − 1 = −1/(1 + A); reference case 5 of the shared checks]."""
+    from opsym.io.designfile import parse_design
+    from opsym.study.design import run_design
+
+    design = parse_design(
+        'output = "out"\n'
+        "[voltage-sources]\n"
+        'Vin = { plus = "in", minus = "0", value = "1" }\n'
+        "[opamps.U1]\n"
+        'plus = "in"\nminus = "out"\nout = "out"\ngain = "finite"\ninclude = ["offset"]\n'
+        'parameters = { name = "mine", a_typ = "1M", a_min = "1k", vos_max = "1m" }\n'
+    )
+    study = run_design(design)
+    row = study.budget.row("gain: open-loop")
+    assert row.output == pytest.approx(-1 / (1 + 1000), rel=1e-9)

@@ -246,7 +246,7 @@ def design_values(design: Design) -> dict[str, sp.Expr]:
     (4700, 1/10, 3/250000000)
     """
     values = dict(design.values)
-    grade = design.budget.grade if design.budget is not None else "typical"
+    grade = design.budget.grade if design.budget is not None else "max"
     for amp in design.circuit.opamps:
         params = design.opamps.get(amp.name)
         if params is None:
