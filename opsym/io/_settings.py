@@ -13,7 +13,7 @@ import sympy as sp
 
 from ..errors import DesignFileError, OpsymError
 from ..model.circuit import Circuit
-from ..model.elements import CurrentSource, Resistor, VoltageSource
+from ..model.elements import Resistor
 from ..model.nonideal import KINDS
 from ..numeric.params import OpAmpParams, ResistorParams, resistor_parameters
 from ..numeric.requirement import SUMS, Requirement
@@ -173,9 +173,7 @@ class SettingsReader:
 
     def signal_of(self, t: Table, default: str | None) -> str:
         """The ``signal`` of a table, or the design's input; one of the signal sources."""
-        signals = [
-            e.name for e in self.circuit.elements if isinstance(e, (VoltageSource, CurrentSource))
-        ]
+        signals = list(self.circuit.signal_sources)
         name = t.take_str("signal", default=None)
         if name is None:
             if default is None:

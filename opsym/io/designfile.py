@@ -48,11 +48,9 @@ from ..model.circuit import Circuit
 from ..model.elements import (
     TWO_TERMINALS,
     Capacitor,
-    CurrentSource,
     Inductor,
     Resistor,
     TwoTerminal,
-    VoltageSource,
 )
 from ..model.limits import expect_text
 from ..model.nonideal import KINDS, SinglePole, gain_model
@@ -507,9 +505,7 @@ class _Reader(SettingsReader):
     def signal(self, circuit: Circuit) -> str | None:
         top = self.top
         name = top.take_str("input", default=None)
-        signals = [
-            e.name for e in circuit.elements if isinstance(e, (VoltageSource, CurrentSource))
-        ]
+        signals = list(circuit.signal_sources)
         if name is None:
             return signals[0] if len(signals) == 1 else None
         if name not in signals:

@@ -179,9 +179,7 @@ class _Writer:
         return "\n".join(self.lines) + "\n"
 
     def _signals(self) -> list[str]:
-        return [
-            e.name for e in self.circuit.elements if isinstance(e, (VoltageSource, CurrentSource))
-        ]
+        return list(self.circuit.signal_sources)
 
     def key(self, name: str, value: Any) -> None:
         self.lines.append(f"{_key(name)} = {_toml(value)}")

@@ -265,6 +265,21 @@ class Circuit:
         return tuple(self._elements.values())
 
     @property
+    def signal_sources(self) -> tuple[str, ...]:
+        """Names of the independent voltage and current sources, in the order declared.
+
+        Examples
+        --------
+        >>> c = Circuit()
+        >>> c.voltage_source("Vin", "in", "0")
+        >>> c.resistor("R1", "in", "0")
+        >>> c.signal_sources
+        ('Vin',)
+        """
+        return tuple(e.name for e in self._elements.values()
+                     if isinstance(e, (VoltageSource, CurrentSource)))  # fmt: skip
+
+    @property
     def opamps(self) -> tuple[OpAmp, ...]:
         """The op-amps, in declaration order."""
         return tuple(e for e in self._elements.values() if isinstance(e, OpAmp))

@@ -56,7 +56,7 @@ import sympy as sp
 
 from ..errors import BudgetError, DesignFileError, InvalidValueError, NoSolutionError
 from ..io.design import Design, NoiseSettings, ResponseSettings
-from ..model.elements import CurrentSource, VoltageSource
+from ..model.elements import CurrentSource
 from ..numeric.frequency import HALF_POWER_DB, frequency_grid
 from ..numeric.units import format_si
 from ..output.tables import Table, latex_text
@@ -346,9 +346,7 @@ def run_noise(
 
 def _element_values(design: Design, values: Mapping[str, Any]) -> dict[str, Any]:
     """The numbers to put in (the file's exact ones win over any float given); no signals."""
-    signals = {
-        e.name for e in design.circuit.elements if isinstance(e, (VoltageSource, CurrentSource))
-    }
+    signals = set(design.circuit.signal_sources)
     exact = dict(design.values)
     return {k: exact.get(k, v) for k, v in values.items() if k not in signals}
 
