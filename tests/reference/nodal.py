@@ -385,7 +385,7 @@ def zero_of_coefficient(
 
     def coef(r: Fraction) -> Fraction:
         moved = [(*it[:4], r) if it[1] == part else it for it in desc]
-        return _read(solve_fractions(with_sources(moved, weights)), output)
+        return _difference(solve_fractions(with_sources(moved, weights)), output)
 
     rs = [Fraction(1), Fraction(1000), Fraction(10**6), Fraction(7, 3)]
     ys = [coef(r) for r in rs]
@@ -419,10 +419,22 @@ def zero_of_coefficient(
     raise AssertionError(f"could not fit the coefficient of {source} in {part}")
 
 
-def _read(volts: Mapping[str, float], output: str | tuple[str, str]) -> float:
+def _difference(volts: Mapping[str, Any], output: str | tuple[str, str]) -> Any:
+    """The output in the voltages' own type (a Fraction stays exact)."""
     if isinstance(output, tuple):
         return volts[canonical_node(output[0])] - volts[canonical_node(output[1])]
     return volts[canonical_node(output)]
+
+
+def _read(volts: Mapping[str, Any], output: str | tuple[str, str]) -> float:
+    """The output as a float; a difference of exact voltages is taken exactly first
+    (two nearly equal floats would lose digits: a follower's input minus its output)."""
+    return float(_difference(volts, output))
+
+
+def _solved(desc: Sequence[Sequence[Any]], exact: bool | None) -> Mapping[str, Any]:
+    """Node voltages: exact Fractions with ``exact=True``, else :func:`solve`'s floats."""
+    return solve_fractions(desc) if exact else solve(desc, exact=exact)
 
 
 def coefficients(
@@ -432,7 +444,7 @@ def coefficients(
 ) -> dict[str, float]:
     """Superposition: the output for each independent source alone at unit value."""
     return {
-        s: _read(solve(with_sources(desc, {s: 1.0}), exact=exact), output)
+        s: _read(_solved(with_sources(desc, {s: 1.0}), exact), output)
         for s in source_names(desc)
     }
 
@@ -449,8 +461,8 @@ def coefficients_with_scale(
     """
     out = {}
     for s in source_names(desc):
-        volts = solve(with_sources(desc, {s: 1.0}), exact=exact)
-        out[s] = (_read(volts, output), max(abs(v) for v in volts.values()))
+        volts = _solved(with_sources(desc, {s: 1.0}), exact)
+        out[s] = (_read(volts, output), float(max(abs(v) for v in volts.values())))
     return out
 
 
@@ -458,7 +470,7 @@ def output_value(
     desc: Sequence[Sequence[Any]], output: str | tuple[str, str], exact: bool | None = None
 ) -> float:
     """The output with every source at its described value."""
-    return _read(solve(desc, exact=exact), output)
+    return _read(_solved(desc, exact), output)
 
 
 # -- the same circuit in opsym --------------------------------------------------------
