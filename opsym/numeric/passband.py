@@ -290,7 +290,7 @@ def _squared_magnitude(p: sp.Poly) -> sp.Poly:
 
 def _end_values(g_num: sp.Poly, g_den: sp.Poly) -> tuple[sp.Expr, sp.Expr]:
     """``|H(0)|²`` and ``|H(∞)|²`` (``oo`` when unbounded), exactly."""
-    n0, d0 = g_num.eval(0), g_den.eval(0)
+    n0, d0 = g_num(0), g_den(0)  # Poly evaluated at a number
     dc = sp.oo if d0 == 0 else n0 / d0
     if g_num.degree() > g_den.degree():
         hf = sp.oo
@@ -399,6 +399,6 @@ def _extreme(
         candidates = [x for x in candidates if within[0] < x < within[1]]
     if not candidates:
         raise InvalidValueError("|H| has no interior extreme; no centre frequency to report")
-    values = [(g_num.eval(x) / g_den.eval(x), x) for x in candidates]
+    values = [(g_num(x) / g_den(x), x) for x in candidates]
     value, x = max(values) if largest else min(values)
     return x, value
