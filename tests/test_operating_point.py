@@ -9,6 +9,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 import pytest
+from designs import OLD_BRIDGE
 
 import opsym
 from opsym.analyses.operating import Rails, operating_point
@@ -87,31 +88,6 @@ def test_missing_values_are_named():
         operating_point(c)
 
 
-OLD_BRIDGE = """\
-title = "Bridge amplifier with a T-network, R6 to ground"
-output = "out"
-input = "Vex"
-[resistors]
-Ra = { between = ["ex", "ref"], value = "10k" }
-Rb = { between = ["ref", "0"], value = "10k" }
-Rg = { between = ["ex", "n"], value = "350" }
-Rc = { between = ["n", "0"], value = "350" }
-R4 = { between = ["n", "t"], value = "100k" }
-R5 = { between = ["t", "out"], value = "100k" }
-R6 = { between = ["t", "0"], value = "1k" }
-[voltage-sources]
-Vex = { plus = "ex", minus = "0", value = "2.5 V" }
-[opamps.U1]
-plus = "ref"
-minus = "n"
-out = "out"
-gain = "finite"
-include = ["offset", "bias", "cmrr"]
-Vcm = "1.25 V"
-parameters = "generic precision bipolar"
-[budget]
-grade = "typical"
-"""
 
 
 def test_bridge_with_t_network_to_ground_sits_far_outside_its_rails():

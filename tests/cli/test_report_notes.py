@@ -12,6 +12,8 @@ import subprocess
 import sys
 from pathlib import Path
 
+from designs import OLD_BRIDGE
+
 ROOT = Path(__file__).parents[2]
 TEXT = "Ω µ ‖ ° — é"
 
@@ -73,31 +75,6 @@ def test_notes_state_every_value_and_keep_utf8_text(tmp_path, pdflatex):
     pdflatex(tmp_path, "note.tex")
 
 
-OLD_BRIDGE = """\
-title = "Bridge amplifier, T-network shunt to ground"
-output = "out"
-input = "Vex"
-[resistors]
-Ra = { between = ["ex", "ref"], value = "10k" }
-Rb = { between = ["ref", "0"], value = "10k" }
-Rg = { between = ["ex", "n"], value = "350" }
-Rc = { between = ["n", "0"], value = "350" }
-R4 = { between = ["n", "t"], value = "100k" }
-R5 = { between = ["t", "out"], value = "100k" }
-R6 = { between = ["t", "0"], value = "1k" }
-[voltage-sources]
-Vex = { plus = "ex", minus = "0", value = "2.5 V" }
-[opamps.U1]
-plus = "ref"
-minus = "n"
-out = "out"
-gain = "finite"
-include = ["offset", "bias", "cmrr"]
-Vcm = "1.25 V"
-parameters = "generic precision bipolar"
-[budget]
-grade = "typical"
-"""
 
 
 def test_report_warns_when_an_output_is_outside_its_rails(tmp_path, pdflatex):
