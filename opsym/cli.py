@@ -226,6 +226,9 @@ def _check(args: argparse.Namespace) -> int:
             continue
         out = d.output if isinstance(d.output, str) else " - ".join(d.output)
         print(f"{name}: ok: {d.title!r}, {len(d.circuit.elements)} elements, output {out}")
+        if Path(name).suffix.lower() != ".toml":  # a netlist: what the reader skipped or renamed
+            for line in filter(None, d.notes.splitlines()):
+                print(f"  note: {line}")
     return 2 if failed else 0
 
 

@@ -472,3 +472,17 @@ def test_band_pass_design_note_has_its_figures_of_merit(tmp_path):
     assert _number(line, " and ", " (re") == pytest.approx(f0 * (root + 0.1), rel=1e-3)
     # The gain error is quoted at the ideal response's centre, 159.2 Hz.
     assert "- Gain error at f = 159.2 Hz (passband): " in md
+
+
+def test_check_prints_what_a_netlist_reader_skipped(capsys, tmp_path):
+    # A netlist carries simulator lines opsym does not use; `check` lists them so the
+    # engineer sees what was left out before trusting the numbers.
+    (tmp_path / "amp.cir").write_text(
+        "inverting stage\nR1 in n 10k\nR2 n out 100k\nV1 in 0 AC 1\n"
+        "E1 out 0 0 n 1meg\n.tran 1u 1m\n.end\n",
+        encoding="utf-8",
+    )
+    assert main(["check", str(tmp_path / "amp.cir"), "--output", "out"]) == 0
+    shown = capsys.readouterr().out
+    assert ": ok: 'inverting stage'" in shown
+    assert "  note: Netlist line 6 (.tran)" in shown
