@@ -162,13 +162,50 @@ def test_refusals():
         c.analyze("I(R9)")
 
 
-def test_current_output_refused_where_tables_are_in_volts():
-    # A budget or noise table of a current would print amperes as volts: refused.
-    c = _basic_howland("finite")
-    values = {"R1": "10k", "R2": "10k", "R3": "10k", "R4": "10k", "RL": "1k", "U1.A": "100k"}
-    r = c.analyze("I(RL)", values=values)
-    params = opsym.opamp_parameters("generic precision bipolar")
-    with pytest.raises(opsym.BudgetError, match="branch current"):
-        opsym.error_budget(r, {}, opamps={"U1": params})
+def test_current_output_budget_is_in_amperes():
+    # Basic Howland pump, every resistor R, ideal op-amp, Vos in series with the +
+    # pin (docs/conventions.md): KCL at n and L gives I(RL) = (2·Vos − Vin)/R, so Vos
+    # moves the load current by 2·Vos/R (hand analysis; the textbook Howland result
+    # I = −Vin/R with matched resistors, e.g. Franco, Design with Operational
+    # Amplifiers, 3rd ed., §2.5, from memory). With A = 100k it is within 1e-4 of that.
+    c = opsym.Circuit("basic Howland pump")
+    c.voltage_source("Vin", "in", "0")
+    for name, a, b in (("R1", "in", "n"), ("R2", "n", "out"), ("R3", "L", "0"),
+                       ("R4", "out", "L"), ("RL", "L", "0")):  # fmt: skip
+        c.resistor(name, a, b)
+    c.opamp("U1", plus="L", minus="n", out="out", gain="finite", bias=False)
+    values = {"R1": "10k", "R2": "10k", "R3": "10k", "R4": "10k", "RL": "1k",
+              "U1.A": "100k", "Vin": "1 V", "U1.Vos": "1 mV"}  # fmt: skip
+    b = opsym.error_budget(c.analyze("I(RL)"), values)
+    assert b.output_unit == "A" and b.input_unit == "V"
+    vos = b.row("U1.Vos")
+    assert vos.coefficient == pytest.approx(2 / 10e3, rel=1e-4)
+    assert abs(vos.output) == pytest.approx(200e-9, rel=1e-4)
+    text = b.to_markdown()
+    assert "200 µS" in text and "±200 nA" in text and "V/V" not in text
+    assert "G = -99.99" in text and "µS from Vin" in text  # −1/R, written as the trade does
+    assert "ΔG = +2.4 nS" in text  # finite A: G(A) − G(∞), in siemens
+    assert "PASS" in opsym.Requirement(max_output_error="1 µA").verdict(b).line()
+    with pytest.raises(opsym.BudgetError, match=r"limit is in V but .* is in A"):
+        opsym.Requirement(max_output_error="5 mV").verdict(b)
+    with pytest.raises(opsym.BudgetError, match="ADC converts a voltage"):
+        opsym.error_budget(c.analyze("I(RL)"), values, adc=opsym.ADC.unipolar(16, 5.0))
+    # Noise of a current output is not tabulated (its densities would be in A/√Hz).
     with pytest.raises(InvalidValueError, match="branch current"):
         c.noise("I(RL)", values=values)
+
+
+def test_current_input_requirement_is_in_amperes():
+    # Transimpedance stage: Vos at the output is Vos·(1 + Rf/∞) = Vos, referred to the
+    # input current it is Vos/Rf (hand analysis): 1 mV / 1 MΩ = 1 nA.
+    c = opsym.Circuit("transimpedance")
+    c.current_source("Iin", "0", "n")
+    c.resistor("Rf", "n", "out")
+    c.opamp("U1", plus="0", minus="n", out="out", bias=False)
+    b = opsym.error_budget(c.analyze("out"), {"Rf": "1meg", "Iin": "1 uA", "U1.Vos": "1 mV"})
+    assert b.input_unit == "A" and b.output_unit == "V"
+    assert b.worst_case_input == pytest.approx(1e-9)
+    assert "PASS" in opsym.Requirement(max_input_error="2 nA").verdict(b).line()
+    assert "FAIL" in opsym.Requirement(max_input_error=0.5e-9).verdict(b).line()
+    with pytest.raises(opsym.BudgetError, match=r"limit is in V but .* is in A"):
+        opsym.Requirement(max_input_error="2 mV").verdict(b)

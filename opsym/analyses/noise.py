@@ -48,7 +48,7 @@ from ..equations.adjoint import solve_adjoint
 from ..equations.mna import build_equations
 from ..errors import BudgetError, InvalidValueError, UnknownNameError
 from ..model.circuit import Circuit
-from ..model.elements import CurrentSource, Resistor
+from ..model.elements import Resistor
 from ..model.limits import check_band, check_frequencies, expect_text, shown
 from ..model.nonideal import NoiseSpectrum
 from ..model.symbols import LAPLACE, thermal_symbol
@@ -65,6 +65,7 @@ from .branch import current_name
 from .derive import coefficients_of, output_weights, resolve_values, sources_of
 from .present import transfer_form
 from .result import SourceInfo
+from .units import source_unit
 
 __all__ = [
     "BOLTZMANN",
@@ -395,8 +396,7 @@ class NoiseResult:
 
     def input_unit(self, signal: str | None = None) -> str:
         """``"A"`` when the signal is a current source (input noise in A), else ``"V"``."""
-        source = self._circuit.element(self._signal(signal).name)
-        return "A" if isinstance(source, CurrentSource) else "V"
+        return source_unit(self._circuit, self._signal(signal))
 
     def __repr__(self) -> str:
         out = self._output if isinstance(self._output, str) else "-".join(self._output)

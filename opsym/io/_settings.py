@@ -130,13 +130,16 @@ class SettingsReader:
         if len(given) != 1:
             raise t.error(None, "give one limit: max-output-error = \"5 mV\" or "
                           "max-input-error = \"50 µV\"")  # fmt: skip
-        value = t.take_value(given[0], unit="V", required=True)
-        if value is None or not value > 0:
-            raise t.error(given[0], "give a limit above 0 V, e.g. \"5 mV\"")
+        raw = t.raw(given[0])
         total = t.take_str("sum", "worst-case", choices=SUMS) or "worst-case"
         t.finish()
-        key = given[0].replace("-", "_")
-        return Requirement(**{key: float(value)}, sum=total)
+        if isinstance(raw, bool) or not isinstance(raw, (str, int, float)):
+            raise t.error(given[0], "give a limit such as \"5 mV\" (\"20 µA\" for a "
+                          "current output)")  # fmt: skip
+        try:
+            return Requirement(**{given[0].replace("-", "_"): raw}, sum=total)
+        except OpsymError as err:
+            raise t.error(None, str(err)) from None
 
     def tolerance(
         self, t: Table | None, circuit: Circuit

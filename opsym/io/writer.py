@@ -324,7 +324,8 @@ class _Writer:
         if b.requirement is not None:
             req = b.requirement
             key = f"max-{req.referred}-error"
-            limit = _with_unit(format_value(Fraction(repr(req.limit))), "V")
+            limit = format_value(Fraction(repr(req.limit)))
+            limit = _with_unit(limit, req.unit) if req.unit else limit
             self.table("requirement", {key: limit, "sum": req.sum})
 
     def table(self, name: str, body: dict[str, Any]) -> None:

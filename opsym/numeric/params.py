@@ -489,9 +489,10 @@ class ResistorParams:
                 or not isinstance(v, (int, float))
                 or not (math.isfinite(v) and v >= 0)
             ):
+                text = " (for text, use ResistorParams.from_text)" if isinstance(v, str) else ""
                 raise BudgetError(
                     f"resistor set {self.name!r}: {label}={v!r} must be a number >= 0 "
-                    "(a fraction: 0.01 for 1 %; TCR per °C: 25e-6 for 25 ppm/°C)"
+                    f"(a fraction: 0.01 for 1 %; TCR per °C: 25e-6 for 25 ppm/°C){text}"
                 )
         if self.tolerance >= 1:
             raise BudgetError(

@@ -37,14 +37,13 @@ from typing import Any
 
 import numpy as np
 
+from ..analyses.units import output_unit, ratio_unit, source_unit
 from ..errors import (
     BudgetError,
     InvalidValueError,
     MissingDependencyError,
     NoSolutionError,
-    UnknownNameError,
 )
-from ..model.elements import CurrentSource
 from ..model.symbols import LAPLACE
 from ..numeric.frequency import evaluator, frequency_grid, natural_frequencies
 from ..numeric.units import format_si
@@ -98,11 +97,11 @@ def _save(fig: Any, path: Any) -> Any:
     return fig
 
 
-def _volts_axis(ax: Any, axis: str = "x") -> None:
+def _unit_axis(ax: Any, axis: str = "x", unit: str = "V") -> None:
     from matplotlib.ticker import FuncFormatter
 
 
-    fmt = FuncFormatter(lambda v, _pos: format_si(v, "V", 3))
+    fmt = FuncFormatter(lambda v, _pos: format_si(v, unit, 3))
     (ax.xaxis if axis == "x" else ax.yaxis).set_major_formatter(fmt)
 
 
@@ -139,7 +138,7 @@ def contribution_chart(
         ax.text(m, y, f" {100 * r.share:.1f} %", va="center", fontsize=8)
     ax.axvline(budget.rss, color="#dd8452", linestyle="--", label="RSS")
     ax.axvline(budget.worst_case, color="#c44e52", linestyle=":", label="worst case")
-    _volts_axis(ax, "x")
+    _unit_axis(ax, "x", budget.output_unit)
     ax.set_xlabel("|error at output|")
     ax.set_title(budget.title, fontsize=10)
     ax.legend(fontsize=8, loc="best")
@@ -167,7 +166,7 @@ def temperature_chart(sweep: Any, path: Any = None, *, top: int = 3, ax: Any = N
         (sweep.worst_temperature, float(max(sweep.worst_case))),
         fontsize=8, ha="left" if left_half else "right", va="top",
     )  # fmt: skip
-    _volts_axis(ax, "y")
+    _unit_axis(ax, "y", sweep.worst_budget.output_unit)
     ax.set_xlabel("temperature (°C)")
     ax.set_ylabel("|error at output|")
     ax.legend(fontsize=8, loc="best")
@@ -267,15 +266,14 @@ def _source(result: Any, source: Any) -> Any:
     return result._signal(source) if source is None else result._source_symbol(source)
 
 
-def _is_current(result: Any, sym: Any) -> bool:
-    """True when ``sym`` is a current (a current source, a bias current): ``H`` in V/A."""
+def _ratio(result: Any, sym: Any) -> str:
+    """The unit of ``H`` from ``sym`` to the result's output: V/V, Ω, S or A/A."""
+    return ratio_unit(output_unit(result.output), source_unit(result.circuit, sym))
 
-    if sym.name.rsplit(".", 1)[-1] in ("Ib+", "Ib-", "Ib", "Ios", "in+", "in-"):
-        return True
-    try:
-        return isinstance(result.circuit.element(sym.name), CurrentSource)
-    except UnknownNameError:  # an op-amp error source: no element of that name
-        return False
+
+#: The axis label of |H| in dB, by the unit of H.
+_DB_LABEL = {"V/V": "dB, re 1 V/V", "Ω": "dBΩ, re 1 V/A", "S": "dBS, re 1 A/V",
+             "A/A": "dB, re 1 A/A"}  # fmt: skip
 
 
 def _has_gain_model(result: Any) -> bool:
@@ -367,7 +365,7 @@ def _bode(
         except (TypeError, ValueError):
             raise BudgetError("bode_chart: ax= takes two Axes, for magnitude and phase") from None
     fig = ax_mag.figure
-    unit = "dBΩ, re 1 V/A" if _is_current(result, sym) else "dB, re 1 V/V"
+    unit = _DB_LABEL[_ratio(result, sym)]
     with np.errstate(divide="ignore"):
         ax_mag.semilogx(f, 20 * np.log10(np.abs(h)), color="#4c72b0", label="circuit")
     ax_ph.semilogx(f, np.degrees(np.unwrap(np.angle(h))), color="#4c72b0", label="circuit")

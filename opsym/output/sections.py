@@ -42,7 +42,7 @@ from .document import (
     latex_section,
     markdown_section,
 )
-from .figures import _has_gain_model, _is_current
+from .figures import _has_gain_model, _ratio
 from .latex import transfer_latex
 from .noise import noise_latex, noise_table
 from .tables import Table
@@ -106,13 +106,13 @@ def response_table(result: Any, points: Iterable[float], source: Any = None) -> 
             "frequency points: give one or more finite frequencies >= 0 Hz, e.g. [0, 1e3, 1e4]"
         )
     h = result.response(f, sym)
-    unit = "Ω" if _is_current(result, sym) else "V/V"
+    unit = _ratio(result, sym)
     with_error = _has_gain_model(result) and sym in result.signals
     errors = np.abs(result.gain_error_response(f, sym)) if with_error else None
     rows = []
     for i, fi in enumerate(f):
         mag = abs(complex(h[i]))
-        mag_text = format_si(mag, "Ω", 5) if unit == "Ω" else f"{mag:.6g} V/V"
+        mag_text = format_si(mag, unit, 5) if unit in ("Ω", "S") else f"{mag:.6g} {unit}"
         row = [format_si(fi, "Hz", 4), mag_text, f"{math.degrees(np.angle(h[i])):.2f}°"]
         if errors is not None:
             row.append(_fraction_text(float(errors[i])))

@@ -22,9 +22,9 @@ from typing import Any
 import numpy as np
 import sympy as sp
 
-from ..analyses.branch import current_name
+from ..analyses.units import output_unit, ratio_unit, source_unit
 from ..errors import BudgetError, OpsymError
-from ..model.elements import CurrentSource
+from ..model.elements import Resistor
 from ..model.symbols import SYMBOLS, opamp_symbol
 from ..numeric._mismatch import MAX_CORNERS, REJECTED, Rejection, Spread
 from ..numeric._numbers import LARGE_GAIN, Exact, exact_number, free_symbols_of, to_float
@@ -81,6 +81,7 @@ class _Plan:
     notes: tuple[str, ...]
     signal_unit: str = "V"  # "A" when the signal is a current source
     rejection: Rejection | None = None  # the network's CMRR, where it has one
+    output_unit: str = "V"  # "A" for a branch-current output I(name)
 
 
 Progress = Callable[[int, int, str], Any]
@@ -105,11 +106,12 @@ def _prepare(
     progress: Progress | None = None,
 ) -> _Plan:
     opamps = _checked_options(grade, opamps, adc)
-    if current_name(getattr(result, "output", None)) is not None:
+    out_unit = output_unit(getattr(result, "output", None))
+    if adc is not None and out_unit != "V":
         raise BudgetError(
-            f"output {result.output}: budgets are tabulated in volts, so a branch current "
-            "has none; read its terms from the Result (coefficient, subs), or budget the "
-            "voltage across a resistor that carries it"
+            f"output {result.output}: an ADC converts a voltage, and this output is a "
+            "current; drop adc= (give full_scale= in A for ppm of span) or budget the "
+            "voltage across the resistor the current flows into"
         )
     if getattr(result, "domain", "dc") == "s":
         result = result.at_dc()  # a budget of DC errors: the s = 0 limit
@@ -117,6 +119,7 @@ def _prepare(
     names = _names(terms)
     circuit = getattr(result, "circuit", None)
     given, exact_given = _given(values, names, circuit)
+    _declared_signals(result, given, exact_given)
     exact, ideal = _exact_values(names, exact_given, opamps, grade)
     lines, derived = _lines(result, terms, exact, given, opamps, progress)
     sig = _chosen_signal(signal, result.signals)
@@ -131,14 +134,15 @@ def _prepare(
     ref: float | None = gain if gain else None
     if input_gain is not None:
         ref = parse_quantity(input_gain, where="input_gain")
-    fs = None if full_scale is None else parse_quantity(full_scale, "V", where="full_scale")
+    fs = None if full_scale is None else parse_quantity(full_scale, out_unit, where="full_scale")
     if fs is not None and not fs > 0:
-        raise BudgetError(f"full_scale={fs} must be a positive span in volts")
-    notes = _plan_notes(grade, derived, spread_notes, adc, ref, signal_unit, sig)
+        raise BudgetError(f"full_scale={fs} must be a positive span in {out_unit}")
+    unit = ratio_unit(out_unit, signal_unit)
+    notes = _plan_notes(grade if opamps else None, derived, spread_notes, adc, ref, unit, sig)
     return _Plan(
         title or f"Error budget: {getattr(circuit, 'title', '') or 'circuit'}",
         tuple(lines), opamps, grade, sig, sig_value, gain, open_loop, spreads,
-        ref, fs, adc, notes, signal_unit, rejection,
+        ref, fs, adc, notes, signal_unit, rejection, out_unit,
     )  # fmt: skip
 
 
@@ -187,6 +191,18 @@ def _given(
         given[name] = parse_quantity(raw, where=f"values[{name!r}]")
         exact[name] = raw if isinstance(raw, sp.Rational) else exact_number(given[name])
     return given, exact
+
+
+def _declared_signals(result: Any, given: dict[str, float], exact: dict[str, sp.Expr]) -> None:
+    """Add each signal's number declared in the circuit (``voltage_source(..., "1 V")``).
+
+    ``values=`` wins where both give one.
+    """
+    for info in getattr(result, "sources", ()):
+        name = info.symbol.name
+        if info.kind == "signal" and name not in given and info.value.is_number:
+            exact[name] = sp.nsimplify(info.value) if info.value.is_Float else info.value
+            given[name] = float(info.value)
 
 
 def _exact_values(
@@ -289,7 +305,7 @@ def _fixed_value(result, name, what, coeff, given, opamps, exact, derived) -> fl
         if owner not in opamps or SYMBOLS.get(what) is None or not SYMBOLS[what].datasheet:
             raise BudgetError(
                 f"{name} needs a value: give opamps={{{owner!r}: "
-                "opamp_parameters('generic precision bipolar')}} or "
+                "opamp_parameters('generic precision bipolar')} or "
                 f"values[{name!r}]"
             )
     return fixed
@@ -327,7 +343,10 @@ def _grades(resistors: Any) -> Any:
     if resistors is None or isinstance(resistors, ResistorParams):
         return resistors
     if not isinstance(resistors, Mapping):
-        raise BudgetError("resistors must be a ResistorParams or a mapping name → ResistorParams")
+        raise BudgetError(
+            "resistors must be a ResistorParams or a mapping name → ResistorParams, "
+            "e.g. resistors=ResistorParams.from_text('0.1%', '25 ppm')"
+        )
     grades = {}
     for k, v in resistors.items():
         if not isinstance(v, ResistorParams):
@@ -392,7 +411,31 @@ def _tolerance_rows(terms, signals, sig, gain, given, exact: Exact, grades, circ
         spread = Spread.of(coeff, parts, exact.values, base_t, tcr)
         rows.append(_spread_row(name, sig, common, value, _signal_unit(circuit, name), spread))
         notes.append(_spread_note(rows[-1], len(parts)))
+    _fixed_resistors(circuit, rows, notes)
     return tuple(rows), rejection
+
+
+def _fixed_resistors(circuit: Any, rows: list[_SpreadRow], notes: list[str]) -> None:
+    """Say which resistors' tolerance the budget cannot hold: those given as numbers.
+
+    A resistor with a number in the circuit is a constant of the solution, so its
+    tolerance cannot move anything. With ``resistors=`` asked for and nothing left
+    to budget that is an error; otherwise a note names them.
+    """
+    fixed = [e.name for e in getattr(circuit, "elements", ())
+             if isinstance(e, Resistor) and e.value.is_number]  # fmt: skip
+    if not fixed:
+        return
+    listed = ", ".join(fixed)
+    how = (f"add them without a value (c.resistor('{fixed[0]}', a, b)) and give their "
+           "numbers in values=")  # fmt: skip
+    if not rows:
+        raise BudgetError(
+            f"resistors=: {listed} have numbers in the circuit, so their tolerance cannot "
+            f"move the result and the budget would have no tolerance rows; {how}"
+        )
+    notes.append(f"resistor tolerance: not budgeted for {listed} (numbers in the circuit); "
+                 f"to budget them, {how}")  # fmt: skip
 
 
 def _rejected(coeff: sp.Expr, gain: float | None, exact: Exact) -> bool:
@@ -445,33 +488,33 @@ def _spread_note(row: _SpreadRow, n: int) -> str:
             f"{MAX_CORNERS} for corners)")  # fmt: skip
 
 
-def _plan_notes(grade, derived, notes, adc, ref, signal_unit, sig) -> tuple[str, ...]:
+def _plan_notes(grade, derived, notes, adc, ref, gain_unit, sig) -> tuple[str, ...]:
     grade_note = (
         "values: datasheet limits (max Vos, |Ib|, Ios; min A, CMRR, PSRR)"
-        if grade == "max" else "values: typical"
+        if grade == "max" else "values: typical" if grade else "values: as given in values="
     )  # fmt: skip
     out = [grade_note, WORST_CASE_RULE, RSS_RULE, *derived, *notes]
     if adc is not None:
         out.append(f"ADC: {adc.describe()}")
     if ref:
         out.append(
-            f"input-referred: output / |G|, G = {format_plain(ref, '', 6)} V/{signal_unit} from "
+            f"input-referred: output / |G|, G = {_gain_text(ref, gain_unit)} from "
             f"{sig or 'input_gain'}"
         )
     out.append(SHORT_CAUTION)
     return tuple(out)
 
 
-def _signal_unit(circuit: Any, signal: str | None) -> str:
-    """``"A"`` when ``signal`` is a current source of ``circuit``, else ``"V"``."""
+def _gain_text(gain: float, unit: str) -> str:
+    """``-10 V/V``, ``100 kΩ`` (V/A), ``100 µS`` (A/V): as the trade writes a gain."""
+    if unit in ("Ω", "S"):
+        return format_si(gain, unit, 6)
+    return f"{format_plain(gain, '', 6)} {unit}"
 
-    if circuit is None or signal is None:
-        return "V"
-    try:
-        element = circuit.element(signal)
-    except Exception:  # not an element name (an input_gain given by hand)
-        return "V"
-    return "A" if isinstance(element, CurrentSource) else "V"
+
+def _signal_unit(circuit: Any, signal: str | None) -> str:
+    """The unit of ``signal``, a source of ``circuit`` (``"V"`` without either)."""
+    return "V" if circuit is None or signal is None else source_unit(circuit, signal)
 
 
 def _circuit_knows(circuit: Any, name: str) -> bool:

@@ -51,6 +51,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
+from ..analyses.units import ratio_unit
 from ..errors import BudgetError
 from ..model.limits import check_float, expect_mapping
 from ..model.symbols import SYMBOLS
@@ -88,13 +89,15 @@ class BudgetRow:
     unit : str
         Unit of ``value``.
     coefficient : float
-        Output volts per unit of ``value`` (for gain rows: the gain deviation).
+        Output (V, or A for a branch-current output) per unit of ``value`` (for
+        gain rows: the gain deviation).
     output : float
-        Contribution at the output, V: signed if ``signed``, else the magnitude.
+        Contribution at the output, in the budget's ``output_unit``: signed if
+        ``signed``, else the magnitude.
     signed : bool
         Whether the sign is known.
     input : float or None
-        Referred to the input, V (``None`` without a reference gain).
+        Referred to the input, in the signal's unit (``None`` without a reference gain).
     ppm : float or None
         Of full scale.
     lsb : float or None
@@ -155,15 +158,16 @@ class Budget(TableViews):
     #: min |Ad|/|Acm| of the resistor network over the tolerance corners, dB (None
     #: without a differential signal and a common mode, or without ``resistors=``).
     cmrr_db: float | None = None  # the network's CMRR from resistor mismatch, worst case
+    output_unit: str = "V"  # of the output column and totals: "A" for a branch current
 
     @property
     def worst_case_input(self) -> float | None:
-        """Worst case referred to the input, V."""
+        """Worst case referred to the input, in ``input_unit``."""
         return None if not self.input_gain else self.worst_case / abs(self.input_gain)
 
     @property
     def rss_input(self) -> float | None:
-        """RSS referred to the input, V."""
+        """RSS referred to the input, in ``input_unit``."""
         return None if not self.input_gain else self.rss / abs(self.input_gain)
 
     def row(self, source: str) -> BudgetRow:
@@ -188,6 +192,7 @@ class Budget(TableViews):
         """The budget as an :class:`opsym.output.tables.Table`."""
 
         headers = ["source", "value", "coefficient", "at output", "at input"]
+        out = self.output_unit
         fs = self.full_scale or (self.adc.fsr if self.adc else None)
         if fs:
             headers.append("ppm FS")
@@ -198,18 +203,21 @@ class Budget(TableViews):
         for r in self.rows:
             if r.source.startswith("gain:"):
                 sign = "+" if r.coefficient >= 0 else ""
-                coef = "ΔG = " + sign + format_plain(r.coefficient, "", 3)
+                unit = ratio_unit(out, r.unit)
+                delta = (format_si(r.coefficient, unit, 3) if unit in ("Ω", "S")
+                         else format_plain(r.coefficient, "", 3))  # fmt: skip
+                coef = "ΔG = " + sign + delta
             elif r.source.startswith("tolerance:"):
-                coef = "Δ = ±" + format_plain(abs(r.coefficient), "V/" + r.unit, 3)
-            elif r.unit == "A":
-                coef = format_si(r.coefficient, "Ω")  # V/A: the trade writes it in ohms
+                coef = "Δ = ±" + format_plain(abs(r.coefficient), f"{out}/{r.unit}", 3)
+            elif (unit := ratio_unit(out, r.unit)) in ("Ω", "S"):
+                coef = format_si(r.coefficient, unit)  # V/A, A/V: the trade writes Ω, S
             else:
-                coef = format_plain(r.coefficient, "V/V")
+                coef = format_plain(r.coefficient, unit)
             cells = [
                 r.label,
                 format_si(r.value, r.unit),
                 coef,
-                _pm(r.output, r.signed),
+                _pm(r.output, r.signed, out),
                 "—" if r.input is None else _pm(r.input, r.signed, self.input_unit),
             ]
             if fs:
@@ -224,7 +232,7 @@ class Budget(TableViews):
             ("RSS √Σe²", self.rss, self.rss_input),
         ):
             ppm, lsb = self._scaled(total)
-            cells = [name, "", "", "±" + format_si(total, "V"),
+            cells = [name, "", "", "±" + format_si(total, out),
                      "—" if rti is None else "±" + format_si(rti, self.input_unit)]  # fmt: skip
             if fs:
                 cells.append(_num(ppm, False))
@@ -314,6 +322,7 @@ def _evaluate(plan: _Plan, temperature: float) -> Budget:
     return Budget(
         plan.title, tuple(rows), worst, rss, plan.input_gain, plan.signal, plan.full_scale,
         plan.adc, plan.grade, float(temperature), notes, plan.signal_unit, cmrr,
+        plan.output_unit,
     )  # fmt: skip
 
 

@@ -107,8 +107,8 @@ class TemperatureSweep(TableViews):
         rows = []
         for t, b in zip(self.temperatures, self.budgets, strict=True):
             mark = " (worst)" if t == self.worst_temperature else ""
-            cells = [f"{t:g} °C{mark}", "±" + format_si(b.worst_case, "V"),
-                     "±" + format_si(b.rss, "V")]  # fmt: skip
+            cells = [f"{t:g} °C{mark}", "±" + format_si(b.worst_case, b.output_unit),
+                     "±" + format_si(b.rss, b.output_unit)]  # fmt: skip
             cells += ["±" + format_si(b.row(n).magnitude, "V") for n in names]
             rows.append(tuple(cells))
         lo, hi = self.temperatures[0], self.temperatures[-1]

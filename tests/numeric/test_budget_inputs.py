@@ -1,0 +1,77 @@
+"""What a budget takes from the circuit itself: declared signal values, fixed parts, units.
+
+Each check names the hand result it is compared with.
+"""
+
+from __future__ import annotations
+
+import pytest
+
+import opsym
+from opsym import ResistorParams
+from opsym.output import figures
+from opsym.output.sections import response_table
+
+
+def _inverting(r1=None, r2=None):
+    c = opsym.Circuit("inverting, gain -10")
+    c.voltage_source("Vin", "in", "0", "1 V")  # the signal's value, declared in the circuit
+    c.resistor("R1", "in", "n", r1)
+    c.resistor("R2", "n", "out", r2)
+    c.opamp("U1", plus="0", minus="n", out="out", bias=False)
+    return c
+
+
+def test_a_signal_value_declared_in_the_circuit_is_used():
+    # Gain −R2/R1 = −10 at 1 V in, resistors ±0.1 %: the exact worst corner is
+    # 10·(1.001/0.999 − 1) V = 20.02 mV (hand computation of the ratio's extremes).
+    c = _inverting()
+    b = opsym.error_budget(
+        c.analyze("out"), {"R1": "10k", "R2": "100k", "U1.Vos": "1 mV"},
+        resistors=ResistorParams.from_text("0.1%"),
+    )  # fmt: skip
+    row = b.row("gain: tolerance")
+    assert row.value == 1.0
+    assert row.magnitude == pytest.approx(10 * (1.001 / 0.999 - 1), rel=1e-9)
+    assert "values: as given in values=" in b.notes  # no parameter set was named
+
+
+def test_values_override_the_declared_signal_value():
+    c = _inverting()
+    values = {"R1": "10k", "R2": "100k", "U1.Vos": "1 mV", "Vin": "2 V"}
+    b = opsym.error_budget(c.analyze("out"), values, resistors=ResistorParams.from_text("0.1%"))
+    assert b.row("gain: tolerance").magnitude == pytest.approx(20 * (1.001 / 0.999 - 1))
+
+
+def test_resistor_tolerance_of_parts_given_as_numbers_is_never_silently_dropped():
+    # R1 and R2 fixed as numbers: the gain −10 is a constant of the solution, so their
+    # tolerance cannot be budgeted. Asking for it is an error that says what to do.
+    c = _inverting("10k", "100k")
+    res = c.analyze("out")
+    with pytest.raises(opsym.BudgetError, match=r"R1, R2 have numbers in the circuit"):
+        opsym.error_budget(res, {"U1.Vos": "1 mV"}, resistors=ResistorParams.from_text("1%"))
+    # One fixed, one symbolic: the symbolic one is budgeted, the fixed one named in a note.
+    c = _inverting("10k", None)
+    b = opsym.error_budget(
+        c.analyze("out"), {"R2": "100k", "U1.Vos": "1 mV"},
+        resistors=ResistorParams.from_text("0.1%"),
+    )  # fmt: skip
+    assert b.row("gain: tolerance").magnitude == pytest.approx(10 * 0.001, rel=1e-9)
+    assert any("not budgeted for R1" in n for n in b.notes)
+
+
+def test_resistor_params_from_text_is_named_when_text_is_given():
+    with pytest.raises(opsym.BudgetError, match=r"ResistorParams\.from_text"):
+        ResistorParams("0.1%")
+
+
+def test_response_table_and_bode_label_of_a_current_output():
+    # Load current of R2 in an inverting stage is Vin/R1 (KCL at the virtual ground):
+    # 1/10k = 100 µS, flat, in siemens — not V/V.
+    c = _inverting("10k", "100k")
+    res = c.analyze("I(R2)", domain="s")
+    text = response_table(res, [0, 1e3]).to_text()
+    assert "100 µS" in text and "V/V" not in text
+    pytest.importorskip("matplotlib")
+    fig = figures.bode_chart(res)
+    assert fig.axes[0].get_ylabel() == "magnitude (dBS, re 1 A/V)"
