@@ -36,7 +36,7 @@ from typing import Any
 import numpy as np
 import sympy as sp
 
-from ..errors import BudgetError
+from ..errors import BudgetError, OpsymError
 from ..numeric._inputs import check_values
 from ..numeric._numbers import Exact, compile_columns, exact_number, relative_sensitivities
 from ..numeric.params import ResistorParams
@@ -61,9 +61,15 @@ _PERCENTILES = (0.135, 2.5, 50.0, 97.5, 99.865)
 
 
 def _resolve(
-    exprs: Sequence[sp.Expr], values: Mapping[Any, Any], tolerances: Any, where: str
+    exprs: Sequence[sp.Expr], values: Mapping[Any, Any], tolerances: Any, where: str,
+    circuit: Any = None,
 ) -> tuple[list[sp.Symbol], np.ndarray, np.ndarray, dict[sp.Symbol, float]]:
-    """Sort the symbols into toleranced parts (with nominal and t) and fixed values."""
+    """Sort the symbols into toleranced parts (with nominal and t) and fixed values.
+
+    A toleranced name the quantity does not contain is checked against ``circuit``:
+    a part given a number there (its tolerance cannot move anything) or no part at
+    all is an error, never a silent zero spread.
+    """
     free: set[sp.Symbol] = set()
     for e in exprs:
         free |= {s for s in e.free_symbols if isinstance(s, sp.Symbol)}
@@ -86,7 +92,8 @@ def _resolve(
         for key, raw in tolerances.items():
             name = key.name if isinstance(key, sp.Symbol) else str(key)
             if name not in by_name:
-                continue  # a part that does not affect this quantity
+                _absent_part(name, circuit, where)
+                continue  # a symbolic part that does not affect this quantity
             t = (
                 raw.tolerance
                 if isinstance(raw, ResistorParams)
@@ -107,6 +114,8 @@ def _resolve(
     if missing:
         raise BudgetError(f"{where}: give values for {', '.join(missing)}")
     parts = sorted((s for s in tol if tol[s] > 0), key=lambda s: s.name)
+    if not parts and isinstance(tolerances, ResistorParams):
+        _nothing_toleranced(circuit, where)
     nominal = np.array([numbers[s] for s in parts], dtype=float)
     spread = np.array([tol[s] for s in parts], dtype=float)
     fixed = {s: v for s, v in numbers.items() if s not in parts}
@@ -389,7 +398,8 @@ def tolerance_analysis(
     expr, label = _quantity(quantity, of, signal)
     if samples:
         _check_draw(samples, distribution)
-    parts, nominal, t, fixed = _resolve([expr], values, tolerances, "tolerance_analysis")
+    circuit = getattr(quantity, "circuit", None)
+    parts, nominal, t, fixed = _resolve([expr], values, tolerances, "tolerance_analysis", circuit)
     call = _vectorised(expr, parts, fixed)  # compiled once for bound, corners and draws
     y0, bound, shares = _bound(expr, parts, nominal, t, fixed, call)
     lo = hi = None
@@ -405,6 +415,37 @@ def tolerance_analysis(
         label, y0, tuple(s.name for s in parts), tuple(float(x) for x in t), lo, hi, bound,
         shares, mc, unit,
     )  # fmt: skip
+
+
+def _absent_part(name: str, circuit: Any, where: str) -> None:
+    """Refuse a toleranced name that cannot move the quantity for a reason the user can fix."""
+    if circuit is None:
+        return  # a bare expression: a name it lacks simply does not affect it
+    try:
+        element = circuit.element(name)
+    except OpsymError:
+        raise BudgetError(
+            f"{where}: tolerance given for {name!r}, which is not a part of the circuit; "
+            f"check the name (its parts: {', '.join(e.name for e in circuit.elements)})"
+        ) from None
+    value = getattr(element, "value", None)
+    if isinstance(value, sp.Expr) and value.is_number:
+        raise BudgetError(
+            f"{where}: {name} has a number in the circuit ({value}), so its tolerance "
+            f"cannot move the result; add {name} without a value and give its number in values="
+        )
+
+
+def _nothing_toleranced(circuit: Any, where: str) -> None:
+    """With one grade for every part and none toleranced: say why when the circuit knows."""
+    fixed = [e.name for e in getattr(circuit, "elements", ())
+             if isinstance(getattr(e, "value", None), sp.Expr) and e.value.is_number
+             and e.unit in ("Ω", "F", "H")]  # fmt: skip
+    if fixed:
+        raise BudgetError(
+            f"{where}: {', '.join(fixed)} have numbers in the circuit, so their tolerance "
+            "cannot move the result; add them without a value and give their numbers in values="
+        )
 
 
 def _quantity(quantity: Any, of: Any, signal: Any) -> tuple[sp.Expr, str]:

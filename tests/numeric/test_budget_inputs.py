@@ -75,3 +75,25 @@ def test_response_table_and_bode_label_of_a_current_output():
     pytest.importorskip("matplotlib")
     fig = figures.bode_chart(res)
     assert fig.axes[0].get_ylabel() == "magnitude (dBS, re 1 A/V)"
+
+
+def test_tolerance_study_never_reports_a_silent_zero_spread():
+    # With R1, R2 fixed as numbers the gain is the constant −10: a ±1 % study of it
+    # would print ±0. Each way of asking says why instead.
+    from opsym.study.tolerance import tolerance_analysis
+
+    res = _inverting("10k", "100k").analyze("out")
+    with pytest.raises(opsym.BudgetError, match="R1 has a number in the circuit"):
+        tolerance_analysis(res, {}, {"R1": "1%", "R2": "1%"})
+    with pytest.raises(opsym.BudgetError, match="'R9', which is not a part"):
+        tolerance_analysis(res, {}, {"R9": "1%"})
+    with pytest.raises(opsym.BudgetError, match="R1, R2 have numbers in the circuit"):
+        tolerance_analysis(res, {}, ResistorParams.from_text("1%"))
+    # Symbolic parts: the corners of −R2/R1 at ±1 % are −10·1.01/0.99 and −10·0.99/1.01
+    # (hand computation of the ratio's extremes).
+    res = _inverting().analyze("out")
+    study = tolerance_analysis(res, {"R1": "10k", "R2": "100k"}, {"R1": "1%", "R2": "1%"},
+                               samples=None)  # fmt: skip
+    assert (study.corner_low, study.corner_high) == pytest.approx(
+        (-10 * 1.01 / 0.99, -10 * 0.99 / 1.01), rel=1e-12
+    )
