@@ -37,7 +37,7 @@ from ..model.circuit import GROUND, Circuit
 from ..model.elements import Capacitor, CurrentSource, Inductor, OpAmp, Resistor, VoltageSource
 from ..model.symbols import LAPLACE
 
-__all__ = ["current_name", "current_weights"]
+__all__ = ["current_name", "current_weights", "output_latex", "output_text"]
 
 _CURRENT = re.compile(r"\s*I\(\s*([^()\s]+)\s*\)\s*")
 
@@ -54,6 +54,40 @@ def current_name(output: object) -> str | None:
         return None
     m = _CURRENT.fullmatch(output)
     return m.group(1) if m else None
+
+
+def output_text(output: object) -> str:
+    """An output in words for titles: ``V(out)``, ``V(op) - V(on)``, ``I(RL)``.
+
+    Examples
+    --------
+    >>> output_text("out"), output_text(("op", "on")), output_text("I(RL)")
+    ('V(out)', 'V(op) - V(on)', 'I(RL)')
+    """
+    element = current_name(output)
+    if element is not None:
+        return f"I({element})"
+    if isinstance(output, (tuple, list)):
+        a, b = output
+        return f"V({a}) - V({b})"
+    return f"V({output})"
+
+
+def output_latex(output: object) -> str:
+    r"""LaTeX name of an output: ``V_{\mathrm{out}}``, ``V_{a} - V_{b}``, or ``I_{\mathrm{RL}}``.
+
+    Examples
+    --------
+    >>> output_latex("out"), output_latex(("op", "on")), output_latex("I(RL)")
+    ('V_{\\mathrm{out}}', 'V_{\\mathrm{op}} - V_{\\mathrm{on}}', 'I_{\\mathrm{RL}}')
+    """
+    element = current_name(output)
+    if element is not None:
+        return rf"I_{{\mathrm{{{element}}}}}"
+    if isinstance(output, (tuple, list)):
+        a, b = output
+        return rf"V_{{\mathrm{{{a}}}}} - V_{{\mathrm{{{b}}}}}"
+    return rf"V_{{\mathrm{{{output}}}}}"
 
 
 def current_weights(

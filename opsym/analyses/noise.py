@@ -65,7 +65,7 @@ from .branch import current_name
 from .derive import coefficients_of, output_weights, resolve_values, sources_of
 from .present import transfer_form
 from .result import SourceInfo
-from .units import source_unit
+from .units import output_unit, source_unit
 
 __all__ = [
     "BOLTZMANN",
@@ -114,6 +114,27 @@ class NoiseSource:
     transfer: sp.Expr
 
 
+def _own_thermal_noise(
+    circuit: Circuit, output: Any, found: dict[sp.Symbol, sp.Expr], fixed: Mapping
+) -> None:
+    """Add a resistor's own noise to the current through it, when that is the output.
+
+    The thermal noise ``R.en`` is stamped as its Norton current ``R.en/R`` from
+    ``a`` to ``b`` beside the conductance, so the current through the resistor
+    (the physical element, source included) is ``(V(a) − V(b))/R + R.en/R``;
+    the branch weights see only the first part. KVL round a divider checks it:
+    the loop current is ``Σ en/(R1 + R2)``, the same from either resistor.
+    """
+    name = current_name(output)
+    if name is None:
+        return
+    element = circuit.element(name)
+    if isinstance(element, Resistor):
+        sym = thermal_symbol(element.name)
+        r_value = element.value.xreplace(fixed) if fixed else element.value
+        found[sym] = sp.cancel(found[sym] + 1 / r_value)
+
+
 @provides("noise")
 def noise(
     circuit: Circuit,
@@ -123,11 +144,6 @@ def noise(
     progress: Any = None,
 ) -> NoiseResult:
     """Build the :class:`NoiseResult` of ``circuit`` at ``output`` (see the module)."""
-    if current_name(output) is not None:
-        raise InvalidValueError(
-            f"noise at {output}: noise densities are in V/√Hz, so a branch current has "
-            "none yet; take the noise of the voltage across a resistor that carries it"
-        )
     check_topology(circuit, "s")
     t_kelvin = kelvin(temperature)
     fixed = resolve_values(circuit, values)
@@ -139,6 +155,7 @@ def noise(
     resistors = [e for e in circuit.elements if isinstance(e, Resistor)]
     thermal = [SourceInfo(thermal_symbol(e.name), "thermal", e.name, e.value) for e in resistors]
     found = coefficients_of(eqs, z, [*signals, *noisy, *thermal])
+    _own_thermal_noise(circuit, output, found, fixed)
     sources: list[NoiseSource] = []
     for e in resistors:
         sym = thermal_symbol(e.name)
@@ -177,8 +194,9 @@ class NoiseResult:
     """Every noise source's transfer to one output, and the numbers that follow.
 
     Build it with :meth:`opsym.Circuit.noise`. Frequencies are in hertz and
-    may be NumPy arrays; densities are in V/√Hz at the output (A/√Hz or V/√Hz
-    at the input, as the signal source is). Corners not given are zero (white
+    may be NumPy arrays; densities are in V/√Hz at the output (A/√Hz for a
+    branch-current output ``I(name)``: :attr:`output_unit`), and in A/√Hz or
+    V/√Hz at the input, as the signal source is. Corners not given are zero (white
     noise only); densities not given must be supplied with :meth:`subs`.
     """
 
@@ -285,7 +303,7 @@ class NoiseResult:
     # -- numbers -----------------------------------------------------------------------
 
     def contribution(self, name: str, f: Any) -> np.ndarray:
-        """Output noise density (V/√Hz) due to source ``name`` alone, at ``f``."""
+        """Output noise density (``output_unit``/√Hz) due to source ``name`` alone, at ``f``."""
         check_frequencies(f, f"contribution of {name}: f")
         h, density, corner = self._numeric(name)
         freq = np.asarray(f, dtype=float)
@@ -297,7 +315,7 @@ class NoiseResult:
         return {name: self.contribution(name, f) for name in self.names}
 
     def density(self, f: Any) -> np.ndarray:
-        """Total output noise density, V/√Hz: the root-sum-square of the contributions."""
+        """Total output noise density (``output_unit``/√Hz): the root-sum-square of the parts."""
         check_frequencies(f, "density f")
         parts = self.contributions(f)
         return np.sqrt(sum(p**2 for p in parts.values()))
@@ -393,6 +411,11 @@ class NoiseResult:
         The study itself lives in :mod:`opsym.study.noise`.
         """
         return call("noise_budget", self, f_low, f_high, signal)
+
+    @property
+    def output_unit(self) -> str:
+        """``"A"`` for a branch-current output ``I(name)`` (densities in A/√Hz), else ``"V"``."""
+        return output_unit(self._output)
 
     def input_unit(self, signal: str | None = None) -> str:
         """``"A"`` when the signal is a current source (input noise in A), else ``"V"``."""

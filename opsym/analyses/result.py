@@ -41,6 +41,7 @@ from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
 from ._ideal import ideal_circuit, ideal_gains, ideal_limit
 from ._null import null_equation
+from .branch import output_latex
 from .present import at_infinity, tidy, transfer_form
 from .response import FrequencyResponse
 
@@ -530,11 +531,8 @@ class Result(FrequencyResponse):
     # -- output ------------------------------------------------------------------------
 
     def output_latex(self) -> str:
-        """LaTeX name of the output quantity, e.g. ``V_{\\mathrm{out}}``."""
-        if isinstance(self._output, tuple):
-            a, b = self._output
-            return rf"V_{{\mathrm{{{a}}}}} - V_{{\mathrm{{{b}}}}}"
-        return rf"V_{{\mathrm{{{self._output}}}}}"
+        """LaTeX name of the output, e.g. ``V_{\\mathrm{out}}`` or ``I_{\\mathrm{RL}}``."""
+        return output_latex(self._output)
 
     def latex(self, names: Mapping[sp.Symbol, str] | None = None) -> str:
         """The output as a LaTeX ``aligned`` block, one source per line."""

@@ -37,6 +37,7 @@ from typing import Any
 
 import numpy as np
 
+from ..analyses.branch import output_text
 from ..analyses.units import output_unit, ratio_unit, source_unit
 from ..errors import (
     BudgetError,
@@ -288,11 +289,6 @@ def _hertz_axis(ax: Any) -> None:
     ax.set_xlabel("frequency (Hz)")
 
 
-def _output_name(result: Any) -> str:
-    out = result.output
-    return out if isinstance(out, str) else "V(" + ", ".join(out) + ")"
-
-
 def bode_chart(
     result: Any,
     path: Any = None,
@@ -386,7 +382,7 @@ def _bode(
     ax_mag.set_ylabel(f"magnitude ({unit})")
     ax_ph.set_ylabel("phase (°)")
     _hertz_axis(ax_ph)
-    ax_mag.set_title(f"{result.circuit.title}: {_output_name(result)} / {sym}", fontsize=10)
+    ax_mag.set_title(f"{result.circuit.title}: {output_text(result.output)} / {sym}", fontsize=10)
     for ax in (ax_mag, ax_ph):
         ax.grid(which="both", alpha=0.3)
     ax_mag.legend(fontsize=8, loc="best")
@@ -472,7 +468,7 @@ def noise_density_chart(
     top: int | None = None,
     ax: Any = None,
 ) -> Any:
-    """Total output noise density (V/√Hz) and each source's part, log-log.
+    """Total output noise density (V/√Hz, A/√Hz for a current) and each source's part, log-log.
 
     Sources are ranked by their noise power over the range; ``top`` keeps
     the largest ``top`` and adds the rest in power as "others". Sources that
@@ -524,11 +520,12 @@ def _noise_density(
                   label=f"others ({count}, in power)")  # fmt: skip
     from matplotlib.ticker import FuncFormatter
 
-    ax.yaxis.set_major_formatter(FuncFormatter(lambda v, _pos: format_si(v, "V/√Hz", 3)))
+    density = noise_result.output_unit + "/√Hz"
+    ax.yaxis.set_major_formatter(FuncFormatter(lambda v, _pos: format_si(v, density, 3)))
     ax.set_ylabel("output noise density")
     _hertz_axis(ax)
     celsius = noise_result.temperature - 273.15
-    ax.set_title(f"{noise_result.circuit.title}: noise at {_output_name(noise_result)}, "
+    ax.set_title(f"{noise_result.circuit.title}: noise at {output_text(noise_result.output)}, "
                  f"{celsius:g} °C", fontsize=10)  # fmt: skip
     ax.grid(which="both", alpha=0.3)
     ax.legend(fontsize=8, loc="best")

@@ -21,6 +21,7 @@ from typing import TYPE_CHECKING
 
 import sympy as sp
 
+from ..analyses.branch import output_latex
 from ..analyses.noise import PEAK_TO_PEAK_RULE
 from ..errors import ArgumentTypeError
 from ..model.limits import expect_mapping
@@ -41,12 +42,13 @@ def noise_table(budget: NoiseBudget) -> Table:
     band = f"{format_si(budget.f_low, 'Hz')} to {format_si(budget.f_high, 'Hz')}"
     if budget.f_high == float("inf"):
         band = f"{format_si(budget.f_low, 'Hz')} to ∞"
+    u = budget.output_unit
     rows = tuple(
-        (r.name, r.what, format_si(r.rms, "V"), f"{100 * r.share:.1f} %") for r in budget.rows
+        (r.name, r.what, format_si(r.rms, u), f"{100 * r.share:.1f} %") for r in budget.rows
     )
     footer = [
-        ("total", "root-sum-square", format_si(budget.total, "V") + " rms", "100 %"),
-        ("", "peak-to-peak estimate", format_si(budget.peak_to_peak, "V") + " p-p", ""),
+        ("total", "root-sum-square", format_si(budget.total, u) + " rms", "100 %"),
+        ("", "peak-to-peak estimate", format_si(budget.peak_to_peak, u) + " p-p", ""),
     ]
     if budget.input_rms is not None:
         footer.append(
@@ -81,23 +83,16 @@ def _accuracy_note(budget: NoiseBudget) -> tuple[str, ...]:
         return ()
     relative = budget.total_error / budget.total if budget.total > 0 else 0.0
     share = "below 1 ppm" if relative < 1e-6 else format_plain(relative * 1e6, "ppm", 2)
+    error = format_si(budget.total_error, budget.output_unit, 2)
     return (
         "Band integrals: adaptive Gauss–Kronrod in ln f, break points at every pole and "
-        f"zero; estimated error of the total ±{format_si(budget.total_error, 'V', 2)} rms "
-        f"({share} of it).",
+        f"zero; estimated error of the total ±{error} rms ({share} of it).",
     )
 
 
 def noise_markdown(budget: NoiseBudget) -> str:
     """The budget as a GitHub-flavoured Markdown table, totals in bold, rules below."""
     return noise_table(budget).to_markdown()
-
-
-def _output_latex(output: object) -> str:
-    if isinstance(output, tuple):
-        a, b = output
-        return rf"V_{{\mathrm{{{a}}}}} - V_{{\mathrm{{{b}}}}}"
-    return rf"V_{{\mathrm{{{output}}}}}"
 
 
 def _spectrum_latex(noise_result: NoiseResult, name: str) -> str:
@@ -151,9 +146,10 @@ def noise_latex(noise_result: NoiseResult, names: Mapping[sp.Symbol, str] | None
             f"{type(noise_result).__name__}"
         )
     names = expect_mapping(names, "noise_latex names")
-    out = _output_latex(noise_result.output)
+    out = output_latex(noise_result.output)
+    total = "i" if noise_result.output_unit == "A" else "e"
     lines = [
-        r"e_{\mathrm{out}}^{2}(f) &= \sum_{k} \left|H_{k}(j 2\pi f)\right|^{2} S_{k}(f), "
+        total + r"_{\mathrm{out}}^{2}(f) &= \sum_{k} \left|H_{k}(j 2\pi f)\right|^{2} S_{k}(f), "
         r"\qquad T = " + number_latex(noise_result.temperature) + r"\,\mathrm{K}"
     ]
     for name in noise_result.names:

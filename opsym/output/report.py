@@ -23,6 +23,7 @@ from functools import partial
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, NamedTuple
 
+from ..analyses.branch import output_text
 from ..errors import BudgetError
 from .figures import (
     bode_chart,
@@ -87,7 +88,8 @@ def _response_plans(study: Study, directory: Path, fmt: str) -> list[FigurePlan]
     r = study.response
     if r is None:
         return []
-    what, band = f"V({r.output}) from {r.signal}", {"f_start": r.f_start, "f_stop": r.f_stop}
+    what = f"{output_text(r.output)} from {r.signal}"
+    band = {"f_start": r.f_start, "f_stop": r.f_stop}
 
     def bode(p: Path) -> Any:
         return bode_chart(r.result, p, source=r.signal, ideal=True, **band)

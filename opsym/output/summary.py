@@ -43,6 +43,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
+from ..analyses.branch import output_text
 from ..numeric.units import format_plain
 from .circuit_text import element_lines
 from .report import study_grade
@@ -95,8 +96,7 @@ def _operating(study: Study) -> list[str]:
 def _terms(study: Study) -> list[str]:
     """Each source times its coefficient, with the coefficient's number where it is known."""
     d, res = study.design, study.result
-    target = d.output if isinstance(d.output, str) else f"{d.output[0]} - {d.output[1]}"
-    out = [f"Terms of V({target}), each source times its coefficient:"]
+    out = [f"Terms of {output_text(d.output)}, each source times its coefficient:"]
     width = max((len(str(s)) for s in res.terms), default=4)
     for source in res.terms:
         coeff = res.coefficient(source)  # collected over one denominator, cached

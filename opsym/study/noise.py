@@ -49,7 +49,7 @@ class NoiseBudget(TableViews):
     """RMS noise over a band, source by source, with the total and a p-p estimate.
 
     ``total_error`` is the estimated absolute error of ``total`` from the band
-    integrals (adaptive quadrature), V rms; ``None`` when not known.
+    integrals (adaptive quadrature), rms in ``output_unit``; ``None`` when not known.
     """
 
     output: str
@@ -61,6 +61,7 @@ class NoiseBudget(TableViews):
     input_rms: float | None
     input_unit: str = "V"
     total_error: float | None = None
+    output_unit: str = "V"  # "A" for a branch-current output I(name)
 
     @property
     def peak_to_peak(self) -> float:
@@ -109,6 +110,7 @@ def noise_budget(
         input_rms=input_rms,
         input_unit=input_unit,
         total_error=total_error,
+        output_unit=result.output_unit,
     )
 
 
