@@ -51,7 +51,7 @@ from ..model.circuit import Circuit
 from ..model.elements import CurrentSource, Resistor
 from ..model.limits import check_band, check_frequencies, expect_text, shown
 from ..model.nonideal import NoiseSpectrum
-from ..model.symbols import LAPLACE, thermal_symbol
+from ..model.symbols import LAPLACE, SYMBOLS, thermal_symbol
 from ..model.topology import check_topology
 from ..numeric.frequency import (
     IntegrationWarning,
@@ -154,12 +154,11 @@ def noise(
         for kind in amp.nonideals:
             for spectrum in kind.spectra(amp.name):
                 sym = spectrum.source
-                voltage = sym.name.endswith(".en")
+                spec = SYMBOLS[sym.name.partition(".")[2]]  # its words and unit, declared once
                 sources.append(
                     NoiseSource(
-                        sym.name, amp.name,
-                        "voltage noise en" if voltage else f"current noise {sym.name[-3:]}",
-                        "V" if voltage else "A", spectrum, found[sym],
+                        sym.name, amp.name, spec.words, spec.unit.partition("/")[0],
+                        spectrum, found[sym],
                     )
                 )  # fmt: skip
     return NoiseResult(
