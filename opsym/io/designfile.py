@@ -335,8 +335,9 @@ class _Reader(SettingsReader):
         switches = {f: f in include for f in flagged}
         extra = [KINDS[k]() for k in include if k not in flagged]
         if fda:
-            circuit.fda(name, plus, minus, *outs, gain=gain, noise=False, ocm_offset=False,
-                        extra=extra, **switches)  # fmt: skip
+            op, on, vocm = outs
+            circuit.fda(name, plus, minus, op, on, vocm, gain=gain, noise=False,
+                        ocm_offset=False, extra=extra, **switches)  # fmt: skip
         else:
             circuit.opamp(name, plus=plus, minus=minus, out=outs[0], gain=gain, noise=False,
                           extra=extra, **switches)  # fmt: skip
