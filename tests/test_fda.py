@@ -219,3 +219,92 @@ def test_ngspice_agrees_with_the_exported_fda_stage(ngspice):
     for output, got in ((("op", "on"), v["op"] - v["on"]), ("op", v["op"]), ("on", v["on"])):
         want = float(c.analyze(output).subs(values).expression)
         assert got == pytest.approx(want, rel=1e-9, abs=1e-12), output
+
+
+# -- user mistakes: each an OpsymError that names the element and says what to do ----
+
+
+def _mistake(exc, match, build):
+    with pytest.raises(exc, match=match) as info:
+        build()
+    assert isinstance(info.value, opsym.OpsymError)
+
+
+def test_user_mistakes_are_refused_with_a_clear_message():
+    def circuit():
+        c = opsym.Circuit()
+        c.voltage_source("Vid", "ip", "im")
+        c.resistor("Rt", "im", "0", "1k")
+        for n, a, b in (("R1", "ip", "p"), ("R2", "p", "on"), ("R3", "im", "m"),
+                        ("R4", "m", "op")):  # fmt: skip
+            c.resistor(n, a, b, "1k")
+        return c
+
+    def with_fda(**kw):
+        c = circuit()
+        c.fda("U1", "p", "m", "op", "on", **kw)
+        return c
+
+    # vocm given as an output
+    _mistake(opsym.CircuitError, r"FDA U2: vocm is the output node 'op'",
+             lambda: circuit().fda("U2", "p", "m", "op", "on", "op"))  # fmt: skip
+    # both outputs on one node, an output on ground, the inputs on one node
+    _mistake(opsym.CircuitError, r"FDA U2: both outputs",
+             lambda: circuit().fda("U2", "p", "m", "op", "op"))  # fmt: skip
+    _mistake(opsym.CircuitError, r"FDA U2: out_minus is tied to ground",
+             lambda: circuit().fda("U2", "p", "m", "op", "0"))  # fmt: skip
+    _mistake(opsym.CircuitError, r"FDA U2: both inputs",
+             lambda: circuit().fda("U2", "p", "p", "op", "on"))  # fmt: skip
+    # duplicate names
+    _mistake(opsym.errors.DuplicateNameError, r"'R1' is already used",
+             lambda: circuit().fda("R1", "p", "m", "op", "on"))  # fmt: skip
+    # a missing node asked for
+    _mistake(opsym.errors.UnknownNameError, r"no node named 'outp'",
+             lambda: with_fda().analyze(("outp", "on")))  # fmt: skip
+    # a single-ended-only analysis of an FDA: its output current
+    _mistake(opsym.CircuitError, r"I\(U1\): U1 is an FDA with two outputs",
+             lambda: with_fda().analyze("I(U1)"))  # fmt: skip
+    # kinds of a single output, and the FDA's own kinds on an op-amp
+    _mistake(opsym.CircuitError, r"FDA U2: kind 'ro' acts on a single-ended output",
+             lambda: circuit().fda("U2", "p", "m", "op", "on", extra=["ro"]))  # fmt: skip
+    _mistake(opsym.CircuitError, r"op-amp U2: 'ocm-offset' belongs to a fully differential",
+             lambda: circuit().opamp("U2", "p", "m", "op", extra=["ocm-offset"]))  # fmt: skip
+    # an option that does not exist, a flag that is not a bool
+    _mistake(opsym.errors.ArgumentTypeError, r"FDA U2: out is not an option",
+             lambda: circuit().fda("U2", "p", "m", "op", "on", out="x"))  # fmt: skip
+    _mistake(opsym.errors.ArgumentTypeError, r"FDA U2: balance= expects True or False",
+             lambda: circuit().fda("U2", "p", "m", "op", "on", balance="yes"))  # fmt: skip
+
+
+def test_missing_feedback_names_the_fda_and_the_pin():
+    c = opsym.Circuit()
+    c.voltage_source("Vin", "ip", "0")
+    c.resistor("R1", "ip", "p", "1k")
+    c.resistor("R2", "p", "on", "1k")
+    c.resistor("R3", "m", "0", "1k")
+    c.fda("U1", "p", "m", "op", "on")
+    with pytest.raises(opsym.errors.NoFeedbackError, match=r"FDA U1 .* \+ output 'op'"):
+        c.analyze(("op", "on"))
+
+
+def test_design_file_mistakes_name_the_table():
+    base = """format = 1
+output = ["op", "on"]
+[resistors]
+R1 = { between = ["ip", "p"], value = "1k" }
+R2 = { between = ["p", "on"], value = "1k" }
+R3 = { between = ["im", "m"], value = "1k" }
+R4 = { between = ["m", "op"], value = "1k" }
+[voltage-sources]
+Vp = { plus = "ip", minus = "0" }
+Vm = { plus = "im", minus = "0" }
+[fdas.U1]
+plus = "p"
+minus = "m"
+"""
+    with pytest.raises(opsym.errors.DesignFileError, match=r"out-plus"):
+        opsym.parse_design(base + 'out-minus = "on"\n')
+    with pytest.raises(opsym.errors.DesignFileError, match=r"vocm is the output node"):
+        opsym.parse_design(base + 'out-plus = "op"\nout-minus = "on"\nvocm = "on"\n')
+    with pytest.raises(opsym.errors.DesignFileError, match=r"single-ended output"):
+        opsym.parse_design(base + 'out-plus = "op"\nout-minus = "on"\ninclude = ["ro"]\n')
