@@ -87,7 +87,7 @@ _ZERO_CELSIUS = sp.Rational("273.15")
 def kelvin(temperature: Any) -> sp.Expr:
     """``temperature`` in °C (number or text) as exact kelvin; 25 → 298.15."""
     t = to_exact(temperature, "temperature (°C)")
-    if not t.is_number:
+    if not t.is_number or t.is_extended_real is not True:  # sp.I too: no order to compare
         raise InvalidValueError(f"temperature {shown(temperature)}: give a number of °C, e.g. 25")
     kelvins = t + _ZERO_CELSIUS
     if kelvins > 10**4:
