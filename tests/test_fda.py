@@ -308,3 +308,10 @@ minus = "m"
         opsym.parse_design(base + 'out-plus = "op"\nout-minus = "on"\nvocm = "on"\n')
     with pytest.raises(opsym.errors.DesignFileError, match=r"single-ended output"):
         opsym.parse_design(base + 'out-plus = "op"\nout-minus = "on"\ninclude = ["ro"]\n')
+
+
+def test_netlist_reader_refuses_an_fda_pin_map():
+    text = "fda\nV1 ip 0 1\nR1 ip p 1k\nR2 p on 1k\nX1 p m op on cm FDAMOD\n.end\n"
+    pins = {"FDAMOD": ["+", "-", "out", "out-", "vocm"]}
+    with pytest.raises(opsym.errors.DesignFileError, match=r"FDAMOD: pin 'out-' belongs to"):
+        opsym.read_netlist(text, output="op", opamps=pins)
