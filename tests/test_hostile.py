@@ -317,3 +317,13 @@ def test_the_element_count_is_limited():
         c.resistor(f"R{i}", f"n{i}", f"n{i + 1}", value=1000)
     with pytest.raises(opsym.CircuitError, match="already has 2000 elements"):
         c.resistor("Rx", "a", "0")
+
+
+def test_a_complex_temperature_is_refused():
+    """A temperature is a real number of °C; sp.I has no order (docs/conventions.md)."""
+    c = opsym.Circuit()
+    c.resistor("R1", "a", "0", "1k")
+    c.current_source("I1", "0", "a", 0)
+    for t in (sp.I, 25 + sp.I):
+        with pytest.raises(opsym.CircuitError, match="give a number of °C"):
+            c.noise("a", temperature=t)

@@ -34,7 +34,15 @@ import sympy as sp
 
 from ..errors import InvalidValueError
 from ..model.circuit import GROUND, Circuit
-from ..model.elements import Capacitor, CurrentSource, Inductor, OpAmp, Resistor, VoltageSource
+from ..model.elements import (
+    Capacitor,
+    CurrentSource,
+    FullyDifferentialAmp,
+    Inductor,
+    OpAmp,
+    Resistor,
+    VoltageSource,
+)
 from ..model.symbols import LAPLACE
 
 __all__ = ["current_name", "current_weights", "output_latex", "output_text"]
@@ -99,6 +107,11 @@ def current_weights(
 ) -> dict[int, sp.Expr]:
     """The current through element ``name`` as weights on the unknowns (index → weight)."""
     e = circuit.element(name)
+    if isinstance(e, FullyDifferentialAmp):
+        raise InvalidValueError(
+            f"output I({name}): {name} is an FDA with two outputs, so it has no single output "
+            "current; ask for the current of the resistor or load at out+ or out-, e.g. I(Rload)"
+        )
     if isinstance(e, (VoltageSource, Inductor, OpAmp)):
         return {index[f"I({e.name})"]: sp.S.One}
     if isinstance(e, CurrentSource):

@@ -25,6 +25,11 @@ solve gives the returned ``(V+ − V-)/x``; ``T = −(V+ − V-)/x``, the same a
 ``−A·(V+ − V-)/(A·x)``. For an ideal op-amp the row becomes ``Vout = x`` and
 gives ``β`` alone (:mod:`opsym.equations.adjoint`).
 
+A fully differential amplifier's row is its differential one, with ``Vout``
+the differential output ``V(out+) − V(out-)``: the same break gives the
+differential loop gain with the output common-mode loop closed (``A·Rg/(Rg +
+Rf)`` for a balanced stage).
+
 Examples
 --------
 >>> import opsym
@@ -53,7 +58,7 @@ from ..equations.adjoint import solve_adjoint
 from ..equations.mna import DOMAINS, build_equations
 from ..errors import InvalidValueError, UnknownNameError
 from ..model.circuit import GROUND, Circuit
-from ..model.elements import OpAmp
+from ..model.elements import FullyDifferentialAmp, OpAmp
 from ..model.symbols import LAPLACE
 from ..model.topology import check_topology
 from ..numeric.stability import Margins, stability_margins
@@ -174,6 +179,8 @@ def loop_gain(
         gain = gain.xreplace({LAPLACE: sp.S.Zero})
     if gain is None:  # a nullor: the output imposed, Vout = x, gives β = −(V+ − V−)/x
         broken_row = {eqs.index[f"V({amp.out})"]: sp.S.One}
+        if isinstance(amp, FullyDifferentialAmp):  # an FDA's differential output, Vod = x
+            broken_row[eqs.index[f"V({amp.out_minus})"]] = sp.S.NegativeOne
     else:  # the row V(−) − V(+) + Vout/A + … = 0 with V(+) − V(−) replaced by x
         broken_row = dict(eqs.rows[row])
         for col, w in pins.items():

@@ -51,7 +51,7 @@ from ..model.circuit import Circuit
 from ..model.elements import Resistor
 from ..model.limits import check_band, check_frequencies, expect_text, shown
 from ..model.nonideal import NoiseSpectrum
-from ..model.symbols import LAPLACE, thermal_symbol
+from ..model.symbols import LAPLACE, SYMBOLS, thermal_symbol
 from ..model.topology import check_topology
 from ..numeric.frequency import (
     IntegrationWarning,
@@ -88,7 +88,7 @@ _ZERO_CELSIUS = sp.Rational("273.15")
 def kelvin(temperature: Any) -> sp.Expr:
     """``temperature`` in °C (number or text) as exact kelvin; 25 → 298.15."""
     t = to_exact(temperature, "temperature (°C)")
-    if not t.is_number:
+    if not t.is_number or t.is_extended_real is not True:  # sp.I too: no order to compare
         raise InvalidValueError(f"temperature {shown(temperature)}: give a number of °C, e.g. 25")
     kelvins = t + _ZERO_CELSIUS
     if kelvins > 10**4:
@@ -172,12 +172,11 @@ def noise(
         for kind in amp.nonideals:
             for spectrum in kind.spectra(amp.name):
                 sym = spectrum.source
-                voltage = sym.name.endswith(".en")
+                spec = SYMBOLS[sym.name.partition(".")[2]]  # its words and unit, declared once
                 sources.append(
                     NoiseSource(
-                        sym.name, amp.name,
-                        "voltage noise en" if voltage else f"current noise {sym.name[-3:]}",
-                        "V" if voltage else "A", spectrum, found[sym],
+                        sym.name, amp.name, spec.words, spec.unit.partition("/")[0],
+                        spectrum, found[sym],
                     )
                 )  # fmt: skip
     return NoiseResult(

@@ -37,7 +37,7 @@ import sympy as sp
 from ..equations.mna import build_equations
 from ..errors import InvalidValueError, SingularCircuitError
 from ..model.circuit import GROUND, Circuit
-from ..model.elements import OpAmp
+from ..model.elements import FullyDifferentialAmp, OpAmp
 from ..model.symbols import LAPLACE
 from ..numeric.units import format_si
 from .derive import resolve_values, sources_of
@@ -222,10 +222,18 @@ def operating_point(
         return 0.0 if node == GROUND else nodes[node]
 
     amps = tuple(
-        OpAmpPoint(a.name, v(a.out), (v(a.plus) + v(a.minus)) / 2, (rails or {}).get(a.name))
+        OpAmpPoint(label, v(out), (v(a.plus) + v(a.minus)) / 2, (rails or {}).get(a.name))
         for a in circuit.opamps
+        for label, out in _outputs(a)
     )
     return OperatingPoint(nodes, amps, tuple(ideal))
+
+
+def _outputs(amp: OpAmp) -> tuple[tuple[str, str], ...]:
+    """Each output of an amplifier with its label: an FDA's two, checked against its rails."""
+    if isinstance(amp, FullyDifferentialAmp):
+        return ((f"{amp.name} out+", amp.out), (f"{amp.name} out-", amp.out_minus))
+    return ((amp.name, amp.out),)
 
 
 def _uses(circuit: Circuit, key: Any, known: Mapping[str, sp.Symbol]) -> bool:

@@ -50,8 +50,23 @@ import sympy as sp
 
 from ..errors import InvalidValueError
 from ..model.circuit import GROUND, Circuit
-from ..model.elements import Capacitor, CurrentSource, Inductor, OpAmp, Resistor, VoltageSource
-from ..model.nonideal import OutputImpedance, PinAdmittance, PinCurrent, SeriesVoltage
+from ..model.elements import (
+    Capacitor,
+    CurrentSource,
+    FullyDifferentialAmp,
+    Inductor,
+    OpAmp,
+    Resistor,
+    VoltageSource,
+)
+from ..model.nonideal import (
+    CommonModeVoltage,
+    OutputBalance,
+    OutputImpedance,
+    PinAdmittance,
+    PinCurrent,
+    SeriesVoltage,
+)
 from ..model.symbols import LAPLACE, source_symbol, thermal_symbol
 
 __all__ = ["DOMAINS", "INJECTIONS", "STAMPS", "NodalEquations", "build_equations"]
@@ -255,6 +270,47 @@ def _opamp(b: _Builder, amp: OpAmp) -> None:
             INJECTIONS[type(inj)](b, amp, row, inj)
 
 
+def _fda(b: _Builder, amp: FullyDifferentialAmp) -> None:
+    # differential row: V(-) − V(+) + (V(out+) − V(out-))/A = Σ series sources;
+    # common-mode row: (V(out+) + V(out-))/2 − V(vocm) − ebal·Vod = Σ common-mode sources
+    row, col = b.branch(amp.name, f"FDA {amp.name} differential input")
+    cm_row, cm_col = b.branch(f"{amp.name}-", f"FDA {amp.name} output common mode")
+    b.add(b.row_of(amp.out), col, sp.S.NegativeOne, amp.name)
+    b.add(b.row_of(amp.out_minus), cm_col, sp.S.NegativeOne, amp.name)
+    b.add(row, b.col(amp.minus), sp.S.One, amp.name)
+    b.add(row, b.col(amp.plus), sp.S.NegativeOne, amp.name)
+    inverse_gain = sp.S.Zero if amp.gain is None else 1 / b.value(amp.gain)
+    b.add(row, b.col(amp.out), inverse_gain, amp.name)
+    b.add(row, b.col(amp.out_minus), -inverse_gain, amp.name)
+    half = sp.Rational(1, 2)
+    b.add(cm_row, b.col(amp.out), half, amp.name)
+    b.add(cm_row, b.col(amp.out_minus), half, amp.name)
+    b.add(cm_row, b.col(amp.vocm), sp.S.NegativeOne, amp.name)
+    for kind in amp.nonideals:
+        for inj in kind.injections(amp.name):
+            INJECTIONS[type(inj)](b, amp, row, inj)
+
+
+def _fda_cm_row(b: _Builder, amp: OpAmp, inj: object) -> int:
+    if not isinstance(amp, FullyDifferentialAmp):
+        raise InvalidValueError(
+            f"{amp.describe()}: {type(inj).__name__} acts on an FDA's output common mode; "
+            "declare the part with Circuit.fda"
+        )
+    return b.index[f"I({amp.name}-)"]  # its row was added with its column
+
+
+def _common_mode_voltage(b: _Builder, amp: OpAmp, row: int, inj: CommonModeVoltage) -> None:
+    b.source(_fda_cm_row(b, amp, inj), inj.source, b.value(inj.weight), amp.name)
+
+
+def _output_balance(b: _Builder, amp: OpAmp, row: int, inj: OutputBalance) -> None:
+    cm_row = _fda_cm_row(b, amp, inj)
+    ratio = b.value(inj.ratio)
+    b.add(cm_row, b.col(amp.out), -ratio, amp.name)
+    b.add(cm_row, b.col(getattr(amp, "out_minus", amp.out)), ratio, amp.name)
+
+
 def _series_voltage(b: _Builder, amp: OpAmp, row: int, inj: SeriesVoltage) -> None:
     b.source(row, inj.source, b.value(inj.weight), amp.name)
 
@@ -284,6 +340,7 @@ STAMPS: dict[type, Callable[[_Builder, Any], None]] = {
     CurrentSource: _current_source,
     VoltageSource: _voltage_source,
     OpAmp: _opamp,
+    FullyDifferentialAmp: _fda,
 }
 #: The stamp of each injection shape of a non-ideality (in series with +, into a pin,
 #: between pins, in series with the output).
@@ -292,4 +349,6 @@ INJECTIONS: dict[type, Callable[[_Builder, OpAmp, int, Any], None]] = {
     PinCurrent: _pin_current,
     PinAdmittance: _pin_admittance,
     OutputImpedance: _output_impedance,
+    CommonModeVoltage: _common_mode_voltage,
+    OutputBalance: _output_balance,
 }

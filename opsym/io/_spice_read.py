@@ -45,6 +45,10 @@ _WHAT_OPSYM_READS = (
 _DEFAULT_PINS = ("+", "-", "out")
 
 
+#: Pin names of a fully differential amplifier's second output and common-mode input.
+_FDA_PINS = frozenset({"out+", "out-", "outp", "outn", "out_p", "out_n", "vocm", "ocm"})
+
+
 def pin_roles(pins: Sequence[str], model: str) -> tuple[str, ...]:
     """Normalise a pin-order list: ``+``, ``-`` and ``out`` once each; other names are ignored.
 
@@ -57,6 +61,13 @@ def pin_roles(pins: Sequence[str], model: str) -> tuple[str, ...]:
         raise DesignFileError(
             f"op-amp model {model}: the pin map is a list of pin names such as "
             "('+', '-', 'out', 'v+', 'v-'), one per pin in the order the X line lists them"
+        )
+    fda = [p for p in pins if p.strip().lower() in _FDA_PINS]
+    if fda:
+        raise DesignFileError(
+            f"op-amp model {model}: pin {fda[0]!r} belongs to a fully differential amplifier, "
+            "which netlists are not read into; declare it in a design file ([fdas.NAME], "
+            "docs/design-files.md)"
         )
     roles = tuple(_ROLES.get(p.strip().lower(), "") for p in pins)
     if sorted(r for r in roles if r) != ["+", "-", "out"]:

@@ -15,7 +15,7 @@ from typing import TYPE_CHECKING, Any
 import sympy as sp
 
 from ..model.circuit import Circuit
-from ..model.elements import TWO_TERMINALS, OpAmp
+from ..model.elements import TWO_TERMINALS, FullyDifferentialAmp, OpAmp
 from ..model.nonideal import kind_of
 from ..model.symbols import SYMBOLS
 from ..numeric.params import OpAmpParams, ResistorParams
@@ -27,6 +27,7 @@ if TYPE_CHECKING:
 __all__ = [
     "DEFAULT_INCLUDE",
     "ELEMENT_TABLES",
+    "FDA_DEFAULT_INCLUDE",
     "FORMAT",
     "BudgetSettings",
     "Design",
@@ -42,9 +43,13 @@ __all__ = [
 FORMAT = 1
 
 #: Element tables, in the order they are read and written.
-ELEMENT_TABLES = (*(cls.table for cls in TWO_TERMINALS), OpAmp.table)
+ELEMENT_TABLES = (
+    *(cls.table for cls in TWO_TERMINALS), OpAmp.table, FullyDifferentialAmp.table,
+)  # fmt: skip
 #: What an op-amp carries without ``include``: the defaults of ``Circuit.opamp``.
 DEFAULT_INCLUDE = ("offset", "bias", "vnoise", "inoise")
+#: What an FDA (``[fdas.U1]``) carries without ``include``: the defaults of ``Circuit.fda``.
+FDA_DEFAULT_INCLUDE = (*DEFAULT_INCLUDE, "ocm-offset")
 def opamp_values() -> dict[str, tuple[str, str]]:
     """Numbers an op-amp table may give for its own symbols (``U1.Vcm`` ...).
 

@@ -75,6 +75,7 @@ from ._tables import Locator, Table
 from .design import (
     DEFAULT_INCLUDE,
     ELEMENT_TABLES,
+    FDA_DEFAULT_INCLUDE,
     FORMAT,
     Design,
     NullRequest,
@@ -219,7 +220,7 @@ class _Reader(SettingsReader):
             if table is None:
                 continue
             for name in table.data:
-                if kind == "opamps":
+                if kind in ("opamps", "fdas"):
                     for what in OPAMP_PARAMETERS:
                         self.names[f"{name}.{what}"] = opamp_symbol(name, what)
                 elif kind.endswith("sources"):
@@ -232,8 +233,8 @@ class _Reader(SettingsReader):
         equations: dict[str, tuple[Table, str]],
     ) -> None:  # fmt: skip
         try:
-            if kind == "opamps":
-                self.opamp(circuit, name, t)
+            if kind in ("opamps", "fdas"):
+                self.opamp(circuit, name, t, fda=kind == "fdas")
             else:
                 self.two_terminal(circuit, kind, name, t, equations)
         except DesignFileError:
@@ -296,8 +297,14 @@ class _Reader(SettingsReader):
         except OpsymError as err:
             raise t.wrap("grade" if grade is not None else "tolerance", err) from err
 
-    def opamp(self, circuit: Circuit, name: str, t: Table) -> None:
-        plus, minus, out = t.take_node("plus"), t.take_node("minus"), t.take_node("out")
+    def opamp(self, circuit: Circuit, name: str, t: Table, fda: bool = False) -> None:
+        """An ``[opamps.U1]`` table, or with ``fda`` an ``[fdas.U1]`` one."""
+        plus, minus = t.take_node("plus"), t.take_node("minus")
+        if fda:
+            outs = [t.take_node("out-plus"), t.take_node("out-minus")]
+            outs.append(t.take_node("vocm") if t.has("vocm") else "0")
+        else:
+            outs = [t.take_node("out")]
         gain: Any = "ideal"
         if t.has("gain"):
             raw = t.raw("gain")
@@ -305,7 +312,8 @@ class _Reader(SettingsReader):
                 gain = raw
             else:
                 gain = t.value_of(raw, "gain", unit="ratio", names=self.names)
-        include = t.take_strings("include") if t.has("include") else list(DEFAULT_INCLUDE)
+        default = FDA_DEFAULT_INCLUDE if fda else DEFAULT_INCLUDE
+        include = t.take_strings("include") if t.has("include") else list(default)
         for kind in include:
             if kind not in KINDS:
                 raise t.error(
@@ -324,11 +332,15 @@ class _Reader(SettingsReader):
             needs = KINDS[kind].requires
             if needs is not None and needs not in include:
                 raise t.error("include", f"{kind!r} builds on {needs!r}; add \"{needs}\" too")
-        circuit.opamp(
-            name, plus=plus, minus=minus, out=out, gain=gain, offset="offset" in include,
-            bias="bias" in include, cmrr="cmrr" in include, psrr="psrr" in include,
-            noise=False, extra=[KINDS[k]() for k in include if k not in flagged],
-        )  # fmt: skip
+        switches = {f: f in include for f in flagged}
+        extra = [KINDS[k]() for k in include if k not in flagged]
+        if fda:
+            op, on, vocm = outs
+            circuit.fda(name, plus, minus, op, on, vocm, gain=gain, noise=False,
+                        ocm_offset=False, extra=extra, **switches)  # fmt: skip
+        else:
+            circuit.opamp(name, plus=plus, minus=minus, out=outs[0], gain=gain, noise=False,
+                          extra=extra, **switches)  # fmt: skip
 
     def opamp_values(self, name: str, t: Table, gain: Any, include: list[str]) -> None:
         """The op-amp's own numbers (``Vcm``, ``A0``, ``en``, ...: see ``opamp_values``)."""

@@ -47,6 +47,7 @@ from ..model.circuit import Circuit
 from ..model.elements import (
     Capacitor,
     CurrentSource,
+    FullyDifferentialAmp,
     Inductor,
     OpAmp,
     Resistor,
@@ -54,8 +55,15 @@ from ..model.elements import (
     VoltageSource,
 )
 from ..model.limits import expect_mapping, expect_text, shown
-from ..model.nonideal import PinAdmittance, PinCurrent, SeriesVoltage, SinglePole
-from ..model.symbols import LAPLACE
+from ..model.nonideal import (
+    CommonModeVoltage,
+    OutputBalance,
+    PinAdmittance,
+    PinCurrent,
+    SeriesVoltage,
+    SinglePole,
+)
+from ..model.symbols import LAPLACE, SYMBOLS
 from ..numeric.params import OpAmpParams
 from ..values import to_exact
 from ._spice_read import NetlistReader
@@ -258,6 +266,11 @@ class _Writer:
                 v = None if ib is None else ib + (ios / 2 if what == "Ib+" else -ios / 2)
             if v is not None:
                 return float(v), f" (from {p.name}, {self.grade})"
+        spec = SYMBOLS.get(what)
+        if p is not None and spec is not None and spec.datasheet and what == "Voscm":
+            v = p.value(spec.datasheet, self.grade)
+            if v is not None:
+                return float(v), f" (from {p.name}, {self.grade})"
         return 0.0, " (not given: 0)"
 
     def parameter(self, amp: OpAmp, expr: sp.Expr) -> float:
@@ -268,9 +281,12 @@ class _Writer:
         return self.number(expr, f"op-amp {amp.name}")
 
     def opamp(self, amp: OpAmp) -> None:
-        plus, minus, out = (self.node(n) for n in amp.nodes)
+        plus, minus, out = (self.node(n) for n in amp.nodes[:3])
         tag = re.sub(r"[^A-Za-z0-9_]", "_", amp.name)
-        inner, rest = plus, list[str]()
+        fda = isinstance(amp, FullyDifferentialAmp)
+        # an FDA's controlled source drives the internal node d with Vod
+        gain_out = self.fresh(f"{tag}_d", "node") if fda else out
+        inner, rest, cm = plus, list[str](), list[tuple[str, float, str]]()
         for n in amp.nonideals:
             if getattr(n, "noise", False):
                 continue
@@ -294,7 +310,36 @@ class _Writer:
                     g = self.parameter(amp, inj.admittance)
                     card = self.fresh(f"R_{tag}_{inj.a}_{inj.b}")
                     rest.append(f"{card} {ends[inj.a]} {ends[inj.b]} {1 / g!r} ; {n.kind}")
-        self.lines += [*self.gain(amp, inner, minus, out, tag), *rest]
+                elif isinstance(inj, CommonModeVoltage):
+                    v, how = self.source_value(amp, inj.source)
+                    cm.append((inj.source.name, v * self.parameter(amp, inj.weight), how))
+                elif isinstance(inj, OutputBalance):
+                    cm.append(("balance", self.parameter(amp, inj.ratio), ""))
+        self.lines += [*self.gain(amp, inner, minus, gain_out, tag), *rest]
+        if isinstance(amp, FullyDifferentialAmp):
+            self.lines += self.fda_outputs(amp, gain_out, tag, cm)
+
+    def fda_outputs(
+        self, amp: FullyDifferentialAmp, d: str, tag: str, cm: list[tuple[str, float, str]]
+    ) -> list[str]:
+        """V(out+) − V(out-) = V(d); their mean = V(vocm) + Σ offsets + ebal·V(d), in series."""
+        op, on, vocm = (self.node(n) for n in (amp.out, amp.out_minus, amp.vocm))
+        node = self.fresh(f"{tag}_cm0", "node")
+        lines = [f"{self.fresh(f'E_{tag}_vocm')} {node} 0 {vocm} 0 1.0 ; {amp.name}: Vocm input"]
+        for k, (what, v, how) in enumerate(cm, start=1):
+            nxt = self.fresh(f"{tag}_cm{k}", "node")
+            if what == "balance":
+                card = self.fresh(f"E_{tag}_bal")
+                lines.append(f"{card} {nxt} {node} {d} 0 {v!r} ; {amp.name}.ebal: ebal·Vod")
+            else:
+                card = self.fresh(f"V_{tag}_{_safe(what.split('.')[1])}")
+                lines.append(f"{card} {nxt} {node} DC {v!r} ; {what}{how}")
+            node = nxt
+        lines += [
+            f"{self.fresh(f'E_{tag}_op')} {op} {node} {d} 0 0.5 ; {amp.name}: out+ = cm + Vod/2",
+            f"{self.fresh(f'E_{tag}_on')} {on} {node} {d} 0 -0.5 ; {amp.name}: out- = cm - Vod/2",
+        ]
+        return lines
 
     def gain(self, amp: OpAmp, ctrl: str, minus: str, out: str, tag: str) -> list[str]:
         e = self.fresh(f"E_{tag}")

@@ -53,6 +53,7 @@ from ..model.circuit import Circuit
 from ..model.elements import (
     TWO_TERMINALS,
     CurrentSource,
+    FullyDifferentialAmp,
     OpAmp,
     Resistor,
     VoltageSource,
@@ -69,7 +70,7 @@ from ..numeric.params import (
 )
 from ..values import to_exact
 from ._comments import keep_comments
-from .design import DEFAULT_INCLUDE, FORMAT, Design, opamp_values
+from .design import DEFAULT_INCLUDE, FDA_DEFAULT_INCLUDE, FORMAT, Design, opamp_values
 from .formatting import format_value, plain_decimal
 
 __all__ = ["dump_design"]
@@ -212,10 +213,17 @@ class _Writer:
         return body
 
     def opamp(self, amp: OpAmp) -> None:
-        self.lines += ["", f"[opamps.{_key(amp.name)}]"]
+        fda = isinstance(amp, FullyDifferentialAmp)
+        self.lines += ["", f"[{amp.table}.{_key(amp.name)}]"]
         self.key("plus", amp.plus)
         self.key("minus", amp.minus)
-        self.key("out", amp.out)
+        if isinstance(amp, FullyDifferentialAmp):
+            self.key("out-plus", amp.out)
+            self.key("out-minus", amp.out_minus)
+            if amp.vocm != "0":
+                self.key("vocm", amp.vocm)
+        else:
+            self.key("out", amp.out)
         if amp.gain is not None:
             if amp.gain == opamp_symbol(amp.name, "A"):
                 self.key("gain", "finite")
@@ -231,7 +239,7 @@ class _Writer:
                     f"cannot describe (they know {', '.join(KINDS)})"
                 )
             kinds.append(n.kind)
-        if kinds != list(DEFAULT_INCLUDE):
+        if kinds != list(FDA_DEFAULT_INCLUDE if fda else DEFAULT_INCLUDE):
             self.key("include", kinds)
         for what, (unit, _needs) in opamp_values().items():
             name = f"{amp.name}.{what}"
@@ -247,7 +255,7 @@ class _Writer:
             if shipped:
                 self.key("parameters", shipped[0])
             else:
-                self.lines += ["", f"[opamps.{_key(amp.name)}.parameters]"]
+                self.lines += ["", f"[{amp.table}.{_key(amp.name)}.parameters]"]
                 for k, v in _parameter_fields(params).items():
                     self.key(k, v)
 

@@ -1,10 +1,12 @@
 """The circuit model: elements, op-amp non-idealities and symbol names."""
 
 from .circuit import GROUND, Circuit
+from .differential import CommonModeNoise, OutputBalanceError, OutputCommonModeOffset
 from .elements import (
     Capacitor,
     CurrentSource,
     Element,
+    FullyDifferentialAmp,
     Inductor,
     OpAmp,
     Resistor,
@@ -45,12 +47,14 @@ __all__ = [
     "Capacitor",
     "Circuit",
     "CommonModeCapacitance",
+    "CommonModeNoise",
     "CommonModeRejection",
     "CommonModeRejectionPole",
     "CommonModeResistance",
     "CurrentNoise",
     "CurrentSource",
     "Element",
+    "FullyDifferentialAmp",
     "Inductor",
     "InputCapacitance",
     "InputOffset",
@@ -59,6 +63,8 @@ __all__ = [
     "NoiseSpectrum",
     "NonIdeal",
     "OpAmp",
+    "OutputBalanceError",
+    "OutputCommonModeOffset",
     "OutputImpedance",
     "OutputInductance",
     "OutputResistance",

@@ -28,13 +28,13 @@ import sympy as sp
 
 from .._services import call
 from ..errors import (
-    ArgumentTypeError,
     CircuitError,
     DuplicateNameError,
     InvalidValueError,
     UnknownNameError,
-    ValueSyntaxError,
 )
+from ._amplifier import collect_kinds, positive_value, resolve_gain
+from ._fda import build_fda
 from .elements import (
     Capacitor,
     CurrentSource,
@@ -46,7 +46,7 @@ from .elements import (
 )
 from .limits import MAX_ELEMENTS, exact_value, expect_text, shown
 from .naming import check_names
-from .nonideal import KINDS, MultiPole, NonIdeal, gain_model
+from .nonideal import FDA_ONLY_SHAPES, NonIdeal
 from .symbols import LAPLACE, OPAMP_PARAMETERS, component_symbol, opamp_symbol, source_symbol
 
 if TYPE_CHECKING:
@@ -59,21 +59,6 @@ __all__ = ["GROUND", "Circuit"]
 GROUND = "0"
 _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
 _NODE = re.compile(r"^[A-Za-z0-9_][A-Za-z0-9_+\-]*$")
-
-
-def _positive_value(value: Any, name: str, kind: str, unit: str) -> sp.Expr:
-    if value is None:
-        return component_symbol(name)
-    v = exact_value(value, f"{kind} {name}", unit)
-    if v.is_number:
-        if v.is_zero:
-            hint = " (for a wire, give both ends the same node name)" if kind == "resistor" else ""
-            raise InvalidValueError(f"{kind} {name}: value is zero; give a positive value{hint}")
-        if v.is_extended_real is False or v.is_negative:
-            raise InvalidValueError(f"{kind} {name}: value {v} is not positive; give a value > 0")
-    elif v.is_positive is False:
-        raise InvalidValueError(f"{kind} {name}: value {v} cannot be positive; give a value > 0")
-    return v
 
 
 class Circuit:
@@ -105,20 +90,20 @@ class Circuit:
         """Add a resistor between nodes ``a`` and ``b``; ``None`` keeps it symbolic."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(Resistor(name, na, nb, _positive_value(value, name, "resistor", Resistor.unit)))
+        self._add(Resistor(name, na, nb, positive_value(value, name, "resistor", Resistor.unit)))
 
     def capacitor(self, name: str, a: str, b: str, value: Any = None) -> None:
         """Add a capacitor: open at DC, admittance ``s·C`` in the s domain."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        value = _positive_value(value, name, "capacitor", Capacitor.unit)
+        value = positive_value(value, name, "capacitor", Capacitor.unit)
         self._add(Capacitor(name, na, nb, value))
 
     def inductor(self, name: str, a: str, b: str, value: Any = None) -> None:
         """Add an inductor: a wire at DC, impedance ``s·L`` in the s domain."""
         name = self._new_name(name)
         na, nb = self._nodes(name, a, b)
-        self._add(Inductor(name, na, nb, _positive_value(value, name, "inductor", Inductor.unit)))
+        self._add(Inductor(name, na, nb, positive_value(value, name, "inductor", Inductor.unit)))
 
     def voltage_source(self, name: str, plus: str, minus: str, value: Any = None) -> None:
         """Add a signal voltage source, ``V(plus) - V(minus) = value``."""
@@ -190,72 +175,60 @@ class Circuit:
             raise InvalidValueError(
                 f"op-amp {name}: output is tied to ground; give the output its own node"
             )
-        if poles is not None:
-            gain = self._poles(name, gain, poles)
-        model = gain_model(gain) if isinstance(gain, str) else None
-        if isinstance(gain, str) and gain == "ideal":
-            a = None
-        elif isinstance(gain, str) and gain == "finite":
-            a = opamp_symbol(name, "A")
-        elif model is not None:
-            a = model.gain(name)
-        elif gain is None:
-            raise InvalidValueError(
-                f"op-amp {name}: gain=None is ambiguous; write gain='ideal' or gain='finite'"
-            )
-        else:  # a number, an expression or text such as "100k"
-            try:
-                a = _positive_value(gain, name + ".A", "op-amp gain", "ratio")
-            except ValueSyntaxError as err:
-                raise InvalidValueError(
-                    f"op-amp {name}: gain {gain!r} is not 'ideal', 'finite', 'pole' or a number "
-                    "('pole2', 'pole3'… for more poles) "
-                    f"({err})"
-                ) from None
-        wanted = [("offset", offset), ("bias", bias), ("cmrr", cmrr), ("psrr", psrr)]
-        wanted += [("vnoise", noise), ("inoise", noise)]
-        kinds: list[NonIdeal] = [KINDS[k]() for k, on in wanted if on]
-        if isinstance(extra, NonIdeal):
-            extra = (extra,)
-        if extra is None or isinstance(extra, str) or not isinstance(extra, Iterable):
-            raise ArgumentTypeError(
-                f"op-amp {name}: extra= expects a list of NonIdeal instances, "
-                f"not {type(extra).__name__}"
-            )
-        for flag, on in [("offset", offset), ("bias", bias), ("cmrr", cmrr), ("psrr", psrr),
-                         ("noise", noise)]:
-            if not isinstance(on, bool):
-                raise ArgumentTypeError(
-                    f"op-amp {name}: {flag}= expects True or False, not {shown(on)}"
-                )
-        for item in extra:
-            item = _kind(name, item)
-            if item not in kinds:
-                kinds.append(item)
-        have = {k.kind for k in kinds}
+        a = resolve_gain(name, gain, poles)
+        wanted = [("offset", offset), ("bias", bias), ("cmrr", cmrr), ("psrr", psrr),
+                  ("noise", noise)]  # fmt: skip
+        kinds = collect_kinds(name, wanted, extra)
         for k in kinds:
-            if k.requires is not None and k.requires not in have:
+            if any(isinstance(i, FDA_ONLY_SHAPES) for i in k.injections(name)):
                 raise InvalidValueError(
-                    f"op-amp {name}: {k.kind!r} builds on {k.requires!r}, which it does not "
-                    f"carry; add {k.requires}=True (files: \"{k.requires}\" in include)"
+                    f"op-amp {name}: {k.kind!r} belongs to a fully differential amplifier's "
+                    "output common mode; declare the part with Circuit.fda (files: [fdas.NAME])"
                 )
         plus_node, minus_node, out_node = nodes
         self._add(OpAmp(name, plus_node, minus_node, out_node, gain=a, nonideals=tuple(kinds)))
 
-    @staticmethod
-    def _poles(name: str, gain: Any, poles: Any) -> str:
-        """``gain=`` text for ``poles=n``; ``gain`` must be left at its default."""
-        if isinstance(gain, str) and gain in ("ideal", "pole", f"pole{poles}"):
-            try:
-                return MultiPole(poles).kind
-            except ValueError:
-                pass
-            raise InvalidValueError(
-                f"op-amp {name}: poles={poles!r} must be a whole number >= 1, e.g. poles=2"
-            )
-        raise InvalidValueError(
-            f"op-amp {name}: give poles= or gain={gain!r}, not both (poles=2 is gain='pole2')"
-        )
+    def fda(self, name: str, plus: str, minus: str, out_plus: str, out_minus: str,
+            vocm: str = GROUND, gain: Any = "ideal", **options: Any) -> None:
+        """Add a fully differential amplifier (FDA).
+
+        ``V(out_plus) − V(out_minus) = A·(V(plus) − V(minus) + Vos)`` (a nullor
+        when ideal) and ``(V(out_plus) + V(out_minus))/2 = V(vocm) + Voscm +
+        ebal·(V(out_plus) − V(out_minus))`` (``docs/conventions.md``). The inputs
+        draw no current but the error sources'.
+
+        Parameters
+        ----------
+        name : str
+            Element name, e.g. ``"U1"``; its symbols are ``U1.Vos``, ``U1.Voscm``…
+        plus, minus : str
+            The non-inverting and inverting inputs.
+        out_plus, out_minus : str
+            The outputs; ``out_plus`` moves with ``plus``.
+        vocm : str
+            The output common-mode input's node; ground (the default) sets an
+            ideal 0 V output common mode.
+        gain : "ideal", "finite", "pole", "pole2", …, number or expression
+            The differential open-loop gain, as :meth:`opamp` reads it.
+        **options
+            ``offset``, ``bias``, ``cmrr``, ``psrr``, ``noise`` (bool, as for
+            :meth:`opamp`; ``noise`` adds ``en`` and ``in±``), ``ocm_offset``
+            (``Voscm``, default True), ``balance`` (``ebal``, default False),
+            ``extra`` (kind keys, e.g. ``["ocm-noise", "rid"]``), ``poles``.
+
+        Examples
+        --------
+        >>> c = Circuit("FDA stage")
+        >>> c.voltage_source("Vid", "ip", "im")
+        >>> c.resistor("Rgp", "ip", "p", "1k"); c.resistor("Rfp", "p", "on", "2k")
+        >>> c.resistor("Rgm", "im", "m", "1k"); c.resistor("Rfm", "m", "op", "2k")
+        >>> c.fda("U1", "p", "m", "op", "on", bias=False)
+        >>> c.analyze(("op", "on")).coefficient("Vid")
+        2
+        """
+        name = self._new_name(name)
+        nodes = self._nodes(name, plus, minus, out_plus, out_minus, vocm)
+        self._add(build_fda(name, nodes, gain, options))
 
     # -- reading -----------------------------------------------------------------
 
@@ -545,14 +518,3 @@ def _listing(names: Iterable[str]) -> str:
     shown = ", ".join(repr(n) for n in names[:12])
     return shown + (f" and {len(names) - 12} more" if len(names) > 12 else "")
 
-
-def _kind(opamp: str, item: Any) -> NonIdeal:
-    """A non-ideality from ``extra=``: an instance, or the key of a registered kind."""
-    if isinstance(item, NonIdeal):
-        return item
-    if isinstance(item, str) and item in KINDS:
-        return KINDS[item]()
-    raise InvalidValueError(
-        f"op-amp {opamp}: extra={item!r} is not a NonIdeal or the key of one; "
-        f"pass instances or any of {', '.join(KINDS)}"
-    )

@@ -22,6 +22,7 @@ __all__ = [
     "Capacitor",
     "CurrentSource",
     "Element",
+    "FullyDifferentialAmp",
     "Inductor",
     "OpAmp",
     "Resistor",
@@ -137,6 +138,35 @@ class OpAmp(Element):
         return f"op-amp {self.name} (+={self.plus}, -={self.minus}, out={self.out})"
 
 
+@dataclass(frozen=True)
+class FullyDifferentialAmp(OpAmp):
+    """A fully differential amplifier (FDA): inputs ``plus``/``minus``, outputs ``out``
+    (the + output) and ``out_minus``, and the output common-mode input ``vocm``.
+
+    ``V(out) − V(out_minus) = A·(V(plus) − V(minus) + Σ series sources)`` (a
+    nullor when ``gain`` is ``None``) and ``(V(out) + V(out_minus))/2 = V(vocm) +
+    Voscm + ebal·(V(out) − V(out_minus))`` (``docs/conventions.md``). ``vocm`` is
+    ground (``"0"``) when the output common mode is ideal 0 V. As a subclass of
+    :class:`OpAmp` it shares the input side (gain, ``Vos``, ``Ib±``, noise); code
+    that reads an op-amp's single ``out`` checks for this class first.
+    """
+
+    table: ClassVar[str] = "fdas"
+
+    out_minus: str = ""
+    vocm: str = "0"
+
+    @property
+    def nodes(self) -> tuple[str, ...]:
+        return (self.plus, self.minus, self.out, self.out_minus, self.vocm)
+
+    def describe(self) -> str:
+        return (
+            f"FDA {self.name} (+={self.plus}, -={self.minus}, out+={self.out}, "
+            f"out-={self.out_minus}, vocm={self.vocm})"
+        )
+
+
 _KIND_NAMES = {
     Resistor: "resistor",
     Capacitor: "capacitor",
@@ -144,6 +174,7 @@ _KIND_NAMES = {
     VoltageSource: "voltage source",
     CurrentSource: "current source",
     OpAmp: "op-amp",
+    FullyDifferentialAmp: "FDA",
 }
 
 #: The two-terminal element classes, in the order files list them.

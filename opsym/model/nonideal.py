@@ -45,11 +45,13 @@ __all__ = [
     "KINDS",
     "BiasCurrents",
     "CommonModeRejection",
+    "CommonModeVoltage",
     "CurrentNoise",
     "InputOffset",
     "MultiPole",
     "NoiseSpectrum",
     "NonIdeal",
+    "OutputBalance",
     "OutputImpedance",
     "PinAdmittance",
     "PinCurrent",
@@ -108,6 +110,33 @@ class OutputImpedance:
     """
 
     impedance: sp.Expr
+
+
+@dataclass(frozen=True)
+class CommonModeVoltage:
+    """``weight·source`` volts added to a fully differential amplifier's output common mode.
+
+    Only an FDA (:class:`~opsym.model.elements.FullyDifferentialAmp`) has one:
+    its common-mode row reads ``(V(out+) + V(out-))/2 − V(vocm) − … = Σ``.
+    """
+
+    source: sp.Symbol
+    weight: sp.Expr
+
+
+@dataclass(frozen=True)
+class OutputBalance:
+    """An FDA's output balance error: the output common mode gains ``ratio·Vod``.
+
+    ``Vod = V(out+) − V(out-)``; ``ratio`` is the signed ΔVout,cm/ΔVout,diff
+    (ideal 0). It adds no source: it changes the terms, as an impedance does.
+    """
+
+    ratio: sp.Expr
+
+
+#: The injection shapes only a fully differential amplifier can take.
+FDA_ONLY_SHAPES = (CommonModeVoltage, OutputBalance)
 
 
 @dataclass(frozen=True)
@@ -182,7 +211,10 @@ class NonIdeal(ABC):
     @abstractmethod
     def injections(
         self, opamp: str
-    ) -> tuple[SeriesVoltage | PinCurrent | PinAdmittance | OutputImpedance, ...]:
+    ) -> tuple[
+        SeriesVoltage | PinCurrent | PinAdmittance | OutputImpedance | CommonModeVoltage
+        | OutputBalance, ...
+    ]:
         """Where each source acts on op-amp ``opamp``."""
 
     def parameters(self, opamp: str) -> tuple[sp.Symbol, ...]:

@@ -31,7 +31,15 @@ from collections import defaultdict
 
 from ..errors import FloatingNodeError, NoFeedbackError, SingularCircuitError
 from .circuit import GROUND, Circuit
-from .elements import Capacitor, Inductor, OpAmp, Resistor, TwoTerminal, VoltageSource
+from .elements import (
+    Capacitor,
+    FullyDifferentialAmp,
+    Inductor,
+    OpAmp,
+    Resistor,
+    TwoTerminal,
+    VoltageSource,
+)
 
 __all__ = ["check_topology"]
 
@@ -81,6 +89,9 @@ def _voltage_branches(circuit: Circuit, domain: str) -> list[tuple[str, str, str
             out.append((e.a, e.b, f"voltage source {e.name}"))
         elif isinstance(e, Inductor) and domain == "dc":
             out.append((e.a, e.b, f"inductor {e.name} (a wire at DC)"))
+        elif isinstance(e, FullyDifferentialAmp):
+            out.append((e.out, GROUND, f"+ output of FDA {e.name}"))
+            out.append((e.out_minus, GROUND, f"- output of FDA {e.name}"))
         elif isinstance(e, OpAmp):
             out.append((e.out, GROUND, f"output of op-amp {e.name}"))
     return out
@@ -129,6 +140,9 @@ def _check_floating(circuit: Circuit, domain: str) -> None:
             touches[e.plus].append(f"op-amp {e.name} + input")
             touches[e.minus].append(f"op-amp {e.name} - input")
             forest.union(e.out, GROUND)
+            if isinstance(e, FullyDifferentialAmp):
+                touches[e.vocm].append(f"FDA {e.name} vocm input")
+                forest.union(e.out_minus, GROUND)
         elif isinstance(e, TwoTerminal) and isinstance(e, conducting):
             forest.union(e.a, e.b)
         else:
@@ -159,22 +173,35 @@ def _check_floating(circuit: Circuit, domain: str) -> None:
 def _check_feedback(circuit: Circuit, domain: str) -> None:
     conducting = _conducting(domain)
     dc = "DC " if domain == "dc" else ""
-    opamps = circuit.opamps
-    for amp in opamps:
-        if amp.minus == amp.out:
-            continue
-        forest = _Forest()
-        for e in circuit.elements:
-            if isinstance(e, TwoTerminal) and isinstance(e, conducting):
-                if GROUND not in (e.a, e.b):
-                    forest.union(e.a, e.b)
-            elif isinstance(e, OpAmp) and e is not amp:
-                for pin in (e.plus, e.minus):
-                    if GROUND not in (pin, e.out):
-                        forest.union(pin, e.out)
-        if amp.minus == GROUND or forest.find(amp.minus) != forest.find(amp.out):
-            raise NoFeedbackError(
-                f"op-amp {amp.name} has no {dc}feedback path from its output {amp.out!r} to its "
-                f"- input {amp.minus!r}; add a resistor (or a wire) from the output back to the "
-                "- input, or check which pin is which"
-            )
+    for amp in circuit.opamps:
+        loops = [(amp.out, amp.minus, "output", "- input")]
+        if isinstance(amp, FullyDifferentialAmp):
+            loops = [(amp.out, amp.minus, "+ output", "- input"),
+                     (amp.out_minus, amp.plus, "- output", "+ input")]  # fmt: skip
+        what = "FDA" if isinstance(amp, FullyDifferentialAmp) else "op-amp"
+        forest = _feedback_forest(circuit, amp, conducting)
+        for out, pin, out_name, pin_name in loops:
+            if pin == out:
+                continue
+            if pin == GROUND or forest.find(pin) != forest.find(out):
+                raise NoFeedbackError(
+                    f"{what} {amp.name} has no {dc}feedback path from its {out_name} {out!r} "
+                    f"to its {pin_name} {pin!r}; add a resistor (or a wire) from the output "
+                    f"back to the {pin_name}, or check which pin is which"
+                )
+
+
+def _feedback_forest(circuit: Circuit, amp: OpAmp, conducting: tuple[type, ...]) -> _Forest:
+    """Nodes joined by conducting elements (not through ground) and the other amplifiers."""
+    forest = _Forest()
+    for e in circuit.elements:
+        if isinstance(e, TwoTerminal) and isinstance(e, conducting):
+            if GROUND not in (e.a, e.b):
+                forest.union(e.a, e.b)
+        elif isinstance(e, OpAmp) and e is not amp:
+            outs = [e.out] + ([e.out_minus] if isinstance(e, FullyDifferentialAmp) else [])
+            for pin in (e.plus, e.minus):
+                for out in outs:
+                    if GROUND not in (pin, out):
+                        forest.union(pin, out)
+    return forest

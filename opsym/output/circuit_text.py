@@ -200,7 +200,7 @@ def element_lines(
             text += f", tolerance {grade_of.tolerance * 100:g} %"
             if grade_of.tcr:
                 text += f", TCR {grade_of.tcr * 1e6:g} ppm/°C"
-        if e.kind == "op-amp":
+        if e.kind in ("op-amp", "FDA"):  # an FDA carries the same gain, kinds and set
             text += _opamp_text(e, given)
             params = (parameters or {}).get(e.name)
             if params is not None:
