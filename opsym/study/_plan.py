@@ -216,9 +216,14 @@ def _exact_values(
         if name in given:
             subs[sym] = given[name]
         elif dot and owner in opamps and _scales(what):
-            v = opamps[owner].value(SYMBOLS[what].datasheet, grade)
-            if v is None:
-                continue
+            stem = SYMBOLS[what].datasheet
+            v = opamps[owner].value(stem, grade)
+            if v is None:  # the result needs it and the set lacks it: never a silent gap
+                field = f"{stem}_{'max' if grade == 'max' else 'typ'}"
+                raise BudgetError(
+                    f"{name}: parameter set {opamps[owner].name!r} gives no {field}; add it "
+                    f"to the set (e.g. .replace({field}=...)) or give values[{name!r}]"
+                )
             if math.isinf(v) and _is_gain(what):
                 infinite_gain.append(sym)
             subs[sym] = exact_number(v)  # an infinite CMRR, PSRR: 1/oo is 0

@@ -97,3 +97,24 @@ def test_tolerance_study_never_reports_a_silent_zero_spread():
     assert (study.corner_low, study.corner_high) == pytest.approx(
         (-10 * 1.01 / 0.99, -10 * 0.99 / 1.01), rel=1e-12
     )
+
+
+def test_a_parameter_the_set_lacks_is_named_with_its_field():
+    # An FDA's output-balance error ebal is a parameter the generic sets do not give;
+    # the budget names the set, the field to add and the values= key.
+    c = opsym.Circuit("FDA, gain 2")
+    c.voltage_source("Vd", "ip", "im", "1 V")
+    c.voltage_source("Vc", "im", "0", "1 V")
+    for name, a, b in (("Rg1", "ip", "p"), ("Rf1", "p", "on"), ("Rg2", "im", "m"),
+                       ("Rf2", "m", "op")):  # fmt: skip
+        c.resistor(name, a, b)
+    c.fda("U1", plus="p", minus="m", out_plus="op", out_minus="on", balance=True)
+    res = c.analyze("op")
+    values = {"Rg1": "1k", "Rg2": "1k", "Rf1": "2k", "Rf2": "2k"}
+    generic = opsym.opamp_parameters("generic precision bipolar")
+    with pytest.raises(opsym.BudgetError, match=r"gives no ebal_max; add it .* values\['U1.ebal'\]"):
+        opsym.error_budget(res, values, opamps={"U1": generic})
+    # With it: Vop = Vocm + ebal·Vod + Vod/2 and Vod = (1 + Rf/Rg)·Vos = 3·Vos (noise
+    # gain), so Vos reaches V(op) with (0.5 + ebal)·3 = 1.503 at ebal = 1e-3.
+    b = opsym.error_budget(res, values, opamps={"U1": generic.replace(ebal_max=1e-3)})
+    assert b.row("U1.Vos").coefficient == pytest.approx(1.503, rel=1e-12)
