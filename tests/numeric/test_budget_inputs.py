@@ -112,7 +112,8 @@ def test_a_parameter_the_set_lacks_is_named_with_its_field():
     res = c.analyze("op")
     values = {"Rg1": "1k", "Rg2": "1k", "Rf1": "2k", "Rf2": "2k"}
     generic = opsym.opamp_parameters("generic precision bipolar")
-    with pytest.raises(opsym.BudgetError, match=r"gives no ebal_max; add it .* values\['U1.ebal'\]"):
+    named = r"gives no ebal_max; add it .* values\['U1.ebal'\]"
+    with pytest.raises(opsym.BudgetError, match=named):
         opsym.error_budget(res, values, opamps={"U1": generic})
     # With it: Vop = Vocm + ebal·Vod + Vod/2 and Vod = (1 + Rf/Rg)·Vos = 3·Vos (noise
     # gain), so Vos reaches V(op) with (0.5 + ebal)·3 = 1.503 at ebal = 1e-3.
