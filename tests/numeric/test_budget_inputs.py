@@ -111,7 +111,7 @@ def test_a_parameter_the_set_lacks_is_named_with_its_field():
     c.fda("U1", plus="p", minus="m", out_plus="op", out_minus="on", balance=True)
     res = c.analyze("op")
     values = {"Rg1": "1k", "Rg2": "1k", "Rf1": "2k", "Rf2": "2k"}
-    generic = opsym.opamp_parameters("generic precision bipolar")
+    generic = opsym.opamp_parameters("generic precision bipolar").replace(voscm_max=5e-3)
     named = r"gives no ebal_max; add it .* values\['U1.ebal'\]"
     with pytest.raises(opsym.BudgetError, match=named):
         opsym.error_budget(res, values, opamps={"U1": generic})
