@@ -64,7 +64,7 @@ from ..errors import ExpressionTooLargeError, InvalidValueError, MissingValueErr
 from ..model.symbols import LAPLACE
 from .present import TIDY_LIMIT
 
-__all__ = ["EXPAND_LIMIT", "Dominant", "dominant_form", "expanded_size"]
+__all__ = ["EXPAND_LIMIT", "Dominant", "dominant_form", "expanded_size", "part_sizes"]
 
 #: Most monomials opsym expands one polynomial part to (an estimate, before expanding).
 EXPAND_LIMIT = 200_000
@@ -256,21 +256,7 @@ def _parts(
     coeff: sp.Expr, s: sp.Symbol, limit: int, what: str
 ) -> tuple[sp.Expr, list[tuple[sp.Expr, int]]]:
     """``coeff = const · Π part**e``: the polynomial parts (sums) and the rest."""
-    expr = sp.together(coeff) if isinstance(coeff, sp.Add) else coeff
-    const, found = sp.S.One, dict[sp.Expr, int]()
-    stack = [(expr, 1)]
-    while stack:
-        item, power = stack.pop()
-        if isinstance(item, sp.Mul):
-            stack += [(a, power) for a in item.args]
-            continue
-        base, exp = item.as_base_exp()
-        if isinstance(base, sp.Mul) and exp.is_Integer:
-            stack += [(a, power * int(exp)) for a in base.args]
-        elif isinstance(base, sp.Add) and exp.is_Integer:
-            found[base] = found.get(base, 0) + power * int(exp)
-        else:
-            const *= item**power
+    const, found = _factors(coeff)
     parts = []
     for base, e in found.items():
         if e == 0:
@@ -286,6 +272,42 @@ def _parts(
             base = sp.expand(base)
         parts.append((base, e))
     return const, parts
+
+
+def _factors(coeff: sp.Expr) -> tuple[sp.Expr, dict[sp.Expr, int]]:
+    """``coeff = const · Π base**e`` over its sums ``base``, nested products flattened."""
+    expr = sp.together(coeff) if isinstance(coeff, sp.Add) else coeff
+    const, found = sp.S.One, dict[sp.Expr, int]()
+    stack = [(expr, 1)]
+    while stack:
+        item, power = stack.pop()
+        if isinstance(item, sp.Mul):
+            stack += [(a, power) for a in item.args]
+            continue
+        base, exp = item.as_base_exp()
+        if isinstance(base, sp.Mul) and exp.is_Integer:
+            stack += [(a, power * int(exp)) for a in base.args]
+        elif isinstance(base, sp.Add) and exp.is_Integer:
+            found[base] = found.get(base, 0) + power * int(exp)
+        else:
+            const *= item**power
+    return const, found
+
+
+def part_sizes(coeff: sp.Expr) -> tuple[int, int]:
+    """Estimated monomials of the numerator and the denominator of ``coeff``, unexpanded.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> a, b, c = sp.symbols("a b c", positive=True)
+    >>> part_sizes(-a * (a + b) / ((a + c) * (b + c + 1)))
+    (2, 6)
+    """
+    _, found = _factors(coeff)
+    num = math.prod(expanded_size(b) ** e for b, e in found.items() if e > 0)
+    den = math.prod(expanded_size(b) ** -e for b, e in found.items() if e < 0)
+    return num, den
 
 
 def _is_monomial(term: sp.Expr) -> bool:
