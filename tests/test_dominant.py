@@ -180,3 +180,56 @@ def test_bound_holds_with_signed_terms(num, den, xv, yv, error):
     assume(n != 0 and h != 0)
     d = dominant_form(n / dd, values, error=error)
     assert _true_error(d, values) <= d.bound <= error * (1 + 1e-9)
+
+
+# -- design notes -------------------------------------------------------------------
+
+
+def _dac_nominal(c) -> dict[str, int]:
+    """Invented values: R = 10 kΩ, 2R = 20 kΩ, Rf = 10 kΩ, A = 10⁵."""
+    out = {}
+    for name in c.free_symbols_by_name():
+        out[name] = 20_000 if name.startswith("R2_") or name == "Rt" else 10_000
+    out["U1.A"] = 100_000
+    return out
+
+
+def test_note_prints_the_dac_bias_term_as_rf_with_its_bound():
+    # 4-bit DAC: every coefficient's denominator has 76 monomials. With the nominal
+    # values the note shows the bias term as Rf·Ib (KCL at the virtual ground) marked
+    # with its bound, says how long the exact form is, and the budget is unaffected.
+    c = r2r_dac(4)
+    res = c.analyze("out")
+    text = opsym.design_note(res, fmt="markdown", nominal=_dac_nominal(c))
+    assert r"\approx{}" in text
+    assert r"R_{f}\, I_{\mathrm{B},\mathrm{U1}} \quad \text{(dropped terms $\le$" in text
+    assert "U1.Ib: the exact coefficient has about 21 monomials over 76 monomials" in text
+    # the MSB's weight at these values: −Rf/(2R)·(1 − about 1/(A·β)), its value printed
+    # to six digits where the dominant form is still long, or Rf/R2_3 with its bound
+    assert r"\frac{R_{f}}{R_{23}}\, B_{3}" in text or "0.499" in text
+
+
+def test_note_without_values_prints_as_before():
+    c = r2r_dac(4)
+    res = c.analyze("out")
+    text = opsym.design_note(res, fmt="markdown")
+    assert "dropped terms" not in text and "too long to print (their sizes" not in text
+
+
+def test_note_of_a_short_result_is_unchanged_by_values():
+    c = opsym.Circuit("follower")
+    c.voltage_source("Vin", "p", "0")
+    c.resistor("R1", "n", "0")
+    c.resistor("R2", "n", "out")
+    c.opamp("U1", plus="p", minus="n", out="out", gain="finite")
+    res = c.analyze("out")
+    nominal = {"R1": 1000, "R2": 9000, "U1.A": 100_000}
+    assert opsym.design_note(res, fmt="markdown", nominal=nominal, date="2026-01-01") == \
+        opsym.design_note(res, fmt="markdown", date="2026-01-01")
+
+
+def test_note_with_dominant_terms_compiles(tmp_path, pdflatex):
+    c = r2r_dac(4)
+    tex = opsym.design_note(c.analyze("out"), nominal=_dac_nominal(c), standalone=True)
+    (tmp_path / "note.tex").write_text(tex, encoding="utf-8")
+    assert pdflatex(tmp_path, "note.tex").exists()

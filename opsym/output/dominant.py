@@ -62,7 +62,11 @@ def _dominant_lines(
     pct = d.percent.replace("%", r"\%")
     if max(_sizes(d.expression)) <= SHOWN_TERMS:
         part = _source_lines(d.expression, source, table, width)
-        part[-1] += r" \quad \text{(dropped terms $\le$ " + pct + ")}"
+        mark = r"\text{(dropped terms $\le$ " + pct + ")}"
+        if len(part[-1]) + len(mark) + 8 <= width:
+            part[-1] += r" \quad " + mark
+        else:
+            part.append(r"\qquad " + mark)
         there = "" if d.actual is None else f" (there it is {_percent_text(d.actual)})"
         return part, (f"its dominant form keeps {d.kept} and drops {d.dropped}, a relative "
                       f"error of at most {d.percent} {d.scope}{there}")
