@@ -361,6 +361,11 @@ def _value(term: sp.Expr, point: Mapping[sp.Symbol, Fraction]) -> Fraction:
     out = Fraction(1)
     for f in sp.Mul.make_args(term):
         base, exp = f.as_base_exp()
+        if base.is_Symbol and not exp.is_Integer:
+            raise InvalidValueError(
+                f"dominant terms: the monomial {term} has a power that is not a whole number; "
+                "they are taken of rational functions of the symbols only"
+            )
         if base.is_Symbol:
             out *= point[base] ** int(exp)
         else:

@@ -100,7 +100,8 @@ def dominant_blocks(
         need = {x.name: by_name[x.name] for x in coeff.free_symbols if x.name in by_name}
         try:
             shown[sym] = result.dominant(sym, error=NOTE_ERROR, values=need)
-        except OpsymError:  # a value missing, a part too large: print as before
+        except (OpsymError, ZeroDivisionError):  # a value missing, a part too large, a
+            # value that zeroes a part: print as before
             return None
     table = {**result.symbol_latex(), **names}
     lines: list[str] = []
