@@ -60,7 +60,13 @@ from fractions import Fraction
 
 import sympy as sp
 
-from ..errors import ExpressionTooLargeError, InvalidValueError, MissingValueError
+from ..errors import (
+    ArgumentTypeError,
+    ExpressionTooLargeError,
+    InvalidValueError,
+    MissingValueError,
+)
+from ..model.limits import expect_mapping
 from ..model.symbols import LAPLACE
 from .present import TIDY_LIMIT
 
@@ -179,15 +185,21 @@ def dominant_form(
     ExpressionTooLargeError
         A part would expand beyond ``limit`` monomials.
     """
-    if isinstance(error, bool) or not isinstance(error, (int, float, Fraction, sp.Rational)) \
-            or not 0 <= float(error) < 1:  # fmt: skip
-        raise InvalidValueError(f"dominant: error {error!r} must be a number from 0 up to below 1")
+    share = _share(error)
+    if isinstance(coeff, (int, Fraction)) and not isinstance(coeff, bool):
+        coeff = sp.Rational(coeff)
+    if not isinstance(coeff, sp.Expr):
+        raise ArgumentTypeError(
+            f"dominant terms: expected a SymPy expression (a Result's coefficient), not a "
+            f"{type(coeff).__name__}"
+        )
+    values = expect_mapping(values, "dominant values", "{R1: 10000}")
     point = _point(coeff, values, s, what)
-    if error == 0 or coeff.is_number:
+    if share == 0 or coeff.is_number:
         return Dominant(coeff, coeff, 0.0, _count(coeff, s), 0, values=point)
     const, parts = _parts(coeff, s, limit, what)
     multiplicity = sum(abs(e) for _, e in parts) or 1
-    q = (1 + float(error)) ** (1 / multiplicity)
+    q = (1 + float(share)) ** (1 / multiplicity)  # share < 1: a float is safe
     eta = Fraction((q - 1) / (q + 1)) * Fraction(999_999, 1_000_000)  # float slack, downwards
     kept_parts, eps, kept, dropped = [], [], 0, 0
     ratio: Fraction | None = Fraction(1)  # H̃/H at the point (at DC)
@@ -222,6 +234,22 @@ def _shortest(expr: sp.Expr, kept: int) -> sp.Expr:
         if sp.count_ops(factored) <= size:
             best = factored
     return best
+
+
+def _share(error: object) -> Fraction:
+    """``error`` as an exact fraction in ``[0, 1)``; else raise."""
+    if isinstance(error, bool) or not isinstance(error, (int, float, Fraction, sp.Rational)):
+        raise ArgumentTypeError(f"dominant: error must be a number, not a {type(error).__name__}")
+    try:
+        share = Fraction(int(error.p), int(error.q)) if isinstance(error, sp.Rational) \
+            else Fraction(error)  # fmt: skip
+    except (ValueError, OverflowError):  # nan, inf
+        share = Fraction(-1)
+    if not 0 <= share < 1:
+        raise InvalidValueError(
+            f"dominant: error {error!r} must be from 0 up to below 1 (0.01 is 1 %)"
+        )
+    return share
 
 
 def _point(
