@@ -96,6 +96,8 @@ class Dominant:
     actual : float or None
         ``|H̃/H − 1|`` at the nominal values (at DC in the ``s`` domain), evaluated
         exactly and rounded up; ``None`` where ``H`` is zero there.
+    values : mapping of sympy.Symbol to Fraction
+        The nominal point, exactly.
     """
 
     expression: sp.Expr
@@ -105,7 +107,7 @@ class Dominant:
     dropped: int
     scope: str = "at the nominal values"
     actual: float | None = 0.0
-    values: Mapping[sp.Symbol, sp.Expr] = field(default_factory=dict, repr=False)
+    values: Mapping[sp.Symbol, Fraction] = field(default_factory=dict, repr=False)
 
     @property
     def percent(self) -> str:

@@ -73,10 +73,10 @@ def _dominant_lines(
     value = float(d.exact.xreplace({k: sp.Rational(v.numerator, v.denominator)
                                     for k, v in d.values.items()}))  # fmt: skip
     sign = "-" if value < 0 else "+"
-    number = number_latex(abs(value))
+    number = number_latex(abs(value), digits=9)
     part = [rf"{sign} {number} \, {source} \quad \text{{(its value at the nominal values)}}"]
     return part, (f"its dominant terms within {100 * NOTE_ERROR:g} % are still {d.kept}, so "
-                  "the note prints its exact value at the nominal values, to six digits")
+                  "the note prints its exact value at the nominal values, to nine digits")
 
 
 def dominant_blocks(
