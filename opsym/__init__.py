@@ -19,6 +19,7 @@ Examples
 """
 
 from ._version import __version__
+from .analyses.dominant import Dominant, dominant_form
 from .analyses.loop import LoopGain, loop_gain
 from .analyses.noise import NoiseResult
 from .analyses.noise_figure import (
@@ -37,9 +38,11 @@ from .errors import (
     CircuitError,
     DesignFileError,
     DuplicateNameError,
+    ExpressionTooLargeError,
     FloatingNodeError,
     InvalidValueError,
     MissingDependencyError,
+    MissingValueError,
     NoFeedbackError,
     NoSolutionError,
     OpsymError,
@@ -121,7 +124,9 @@ __all__ = [
     "CurrentNoise",
     "Design",
     "DesignFileError",
+    "Dominant",
     "DuplicateNameError",
+    "ExpressionTooLargeError",
     "FloatingNodeError",
     "FrequencySection",
     "InputCapacitance",
@@ -131,6 +136,7 @@ __all__ = [
     "LoopGain",
     "Margins",
     "MissingDependencyError",
+    "MissingValueError",
     "MultiPole",
     "NoFeedbackError",
     "NoSolutionError",
@@ -167,6 +173,7 @@ __all__ = [
     "circuit_optimum_source_resistance",
     "corner_values",
     "design_note",
+    "dominant_form",
     "dump_design",
     "error_budget",
     "format_si",

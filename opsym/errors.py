@@ -25,9 +25,11 @@ __all__ = [
     "CircuitError",
     "DesignFileError",
     "DuplicateNameError",
+    "ExpressionTooLargeError",
     "FloatingNodeError",
     "InvalidValueError",
     "MissingDependencyError",
+    "MissingValueError",
     "NoFeedbackError",
     "NoSolutionError",
     "OpsymError",
@@ -99,3 +101,13 @@ class BudgetError(OpsymError, ValueError):
 
 class MissingDependencyError(OpsymError, ImportError):
     """An optional library (matplotlib for figures) is not installed; install it."""
+
+
+class MissingValueError(BudgetError):
+    """A numeric step (dominant terms at the nominal values) lacks some symbols' values;
+    the message names them."""
+
+
+class ExpressionTooLargeError(OpsymError, ValueError):
+    """An expression would expand beyond what opsym computes with; the message gives the
+    estimated size and the limit."""

@@ -150,6 +150,14 @@ CALLS: dict[str, Callable[[Any], Any]] = {
     "circuit_optimum_source_resistance": lambda x: opsym.circuit_optimum_source_resistance(
         _N, "R1", f=1e3, bounds=x),
     "design_note": lambda x: opsym.design_note(x),
+    "design_note nominal": lambda x: opsym.design_note(_DC, nominal=x),
+    "dominant_form": lambda x: opsym.dominant_form(x, {}),
+    "dominant_form values": lambda x: opsym.dominant_form(_DC.coefficient("Vin"), x),
+    "dominant_form error": lambda x: opsym.dominant_form(
+        _DC.coefficient("Vin"), {_DC.circuit.symbol("R1"): 1, _DC.circuit.symbol("R2"): 2}, x),
+    "dominant source": lambda x: _DC.dominant(x, values={"R1": 1, "R2": 2}),
+    "dominant values": lambda x: _DC.dominant("Vin", values=x),
+    "dominant error": lambda x: _DC.dominant("Vin", error=x, values={"R1": 1, "R2": 2}),
     "dump_design": lambda x: opsym.dump_design(x),
     "load_design": lambda x: opsym.load_design(x),
     "read_netlist": lambda x: opsym.read_netlist(x, output="out"),

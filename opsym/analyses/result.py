@@ -42,6 +42,7 @@ from ..model.symbols import LAPLACE, latex_name, opamp_symbol
 from ._ideal import ideal_circuit, ideal_gains, ideal_limit
 from ._null import null_equation
 from .branch import output_latex
+from .dominant import Dominant, dominant_form
 from .present import at_infinity, tidy, transfer_form
 from .response import FrequencyResponse
 
@@ -527,6 +528,28 @@ class Result(FrequencyResponse):
         if g == 0:
             raise NoSolutionError(f"{sig} does not reach the output; cannot refer to it")
         return {s: tidy(c / g) for s, c in self.terms.items() if s != sig}
+
+    def dominant(
+        self, source: str | sp.Symbol, error: float = 0.01, values: Mapping[Any, Any] | None = None
+    ) -> Dominant:
+        """The dominant terms of one coefficient at nominal values, with the error bound.
+
+        See :mod:`opsym.analyses.dominant`. ``values`` gives every symbol left in
+        the coefficient (names or symbols as keys; numbers or text such as
+        ``"10k"``); a missing one raises :class:`~opsym.MissingValueError`.
+
+        Examples
+        --------
+        >>> nominal = {"R1": "1k", "R2": "1k", "U1.A": "100k"}
+        >>> d = _stage(gain="finite").dominant("Vs", values=nominal)
+        >>> d.expression, f"{d.bound:.3g}"
+        ((R1 + R2)/R1, '2e-05')
+        """
+        sym = self._source_symbol(source)
+        given = expect_mapping(values or {}, "dominant values", "{'R1': '10k'}")
+        point = {self._any_symbol(k): self._value(k, v) for k, v in given.items()}
+        coeff = self.compact_coefficient(sym)
+        return dominant_form(coeff, point, error, what=f"the coefficient of {sym}")
 
     # -- output ------------------------------------------------------------------------
 

@@ -59,6 +59,7 @@ from .document import (
     latex,
     markdown,
 )
+from .dominant import dominant_blocks
 from .sections import FrequencySection, NoiseSection
 
 __all__ = ["CAUTION", "conventions", "design_note"]
@@ -151,6 +152,7 @@ def design_note(
     revision: str = "",
     date: str = "",
     source: str = "",
+    nominal: Mapping[Any, Any] | None = None,
 ) -> str:
     """Write a design-note section for one result.
 
@@ -203,6 +205,10 @@ def design_note(
         defaults to today).
     source : str
         The design file the note was written from.
+    nominal : mapping, optional
+        Every symbol's nominal value (names → numbers): a coefficient too long to
+        print is then shown by its dominant terms at these values, with the bound
+        on what they leave out (:mod:`opsym.output.dominant`).
 
     Returns
     -------
@@ -218,7 +224,7 @@ def design_note(
         Section("Circuit", (Bullets(tuple(map(Text, elements or ["(no circuit attached)"]))),)),
         *_operating_section(operating),
         *_conventions_section(circuit),
-        *_terms_sections(result, list(conditions), list(choices)),
+        *_terms_sections(result, list(conditions), list(choices), nominal),
         *_budget_sections(budget, [*studies], sweep, figure_list(figures)),
         *_requirement_section(budget, requirement),
         *(s.section() for s in (frequency, stability, noise) if s is not None),
@@ -300,14 +306,16 @@ def _conventions_section(circuit: Any) -> list[Section]:
     return [Section("Conventions", (Bullets(tuple(map(Text, stated))),))] if stated else []
 
 
-def _terms_sections(result: Any, conditions: list[Any], choices: list[Any]) -> list[Section]:
+def _terms_sections(
+    result: Any, conditions: list[Any], choices: list[Any], nominal: Any = None
+) -> list[Section]:
     """The symbolic terms (bias as Ib and Ios where both pins carry it), then the conditions."""
     shown = result
     if any(s.name.endswith(".Ib+") for s in result.terms):
         shown = result.with_average_bias()
     names = _names(shown, conditions)
     terms = shown.latex(names) if hasattr(shown, "latex") else sp.latex(shown.expression)
-    out = [Section("Symbolic terms", _terms_blocks(shown, terms, names))]
+    out = [Section("Symbolic terms", _terms_blocks(shown, terms, names, nominal))]
     if conditions or choices:
         items = [Text(_condition_latex(eq, names), math=True) for eq in conditions]
         items += [Text(ch.describe()) for ch in choices]
@@ -326,15 +334,19 @@ _CORRECTION = (
 )
 
 
-def _terms_blocks(result: Any, terms: str, names: dict) -> tuple[Block, ...]:
+def _terms_blocks(result: Any, terms: str, names: dict, nominal: Any = None) -> tuple[Block, ...]:
     """The output in closed form, kept within the page.
 
-    Printed as it is when every line fits; with finite open-loop gains, as the
-    ideal form plus the first-order gain error of each signal; otherwise with
-    long coefficients broken between their terms.
+    Printed as it is when every line fits; with coefficients of hundreds of
+    terms and the nominal values known, by their dominant terms; with finite
+    open-loop gains, as the ideal form plus the first-order gain error of each
+    signal; otherwise with long coefficients broken between their terms.
     """
     if not too_wide(terms) or getattr(result, "domain", "dc") != "dc":
         return (Math(terms),)
+    dominant = dominant_blocks(result, names, nominal)
+    if dominant is not None:
+        return dominant
     ideal = ideal_coefficients(result)  # from the coefficients: no second derivation
     if ideal is None:
         return (Math(broken_latex(result, names)),)

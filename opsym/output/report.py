@@ -159,7 +159,7 @@ def study_note(
         resistors=d.resistors, grade=study_grade(study), operating=study.operating,
         stability=StabilitySection(study.stability) if study.stability else None,
         requirement=d.requirement if study.budget is not None else None,
-        revision=d.revision, date=d.date, source=d.source,
+        revision=d.revision, date=d.date, source=d.source, nominal=study.values,
     )  # fmt: skip
 
 
