@@ -41,6 +41,7 @@ from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
 from ._ideal import ideal_circuit, ideal_gains, ideal_limit
 from ._null import null_equation
+from ._products import error_product, first_order, product_sensitivity, section_errors
 from .present import at_infinity, tidy, transfer_form
 from .response import FrequencyResponse
 
@@ -218,8 +219,9 @@ class Result(FrequencyResponse):
                 cp = self._coefficients[info.symbol]
                 cm = self._coefficients[opamp_symbol(owner, "Ib-")]
                 ib, ios = opamp_symbol(owner, "Ib"), opamp_symbol(owner, "Ios")
-                coefficients[ib] = tidy(cp + cm)
-                coefficients[ios] = tidy((cp - cm) / 2)
+                # as solved: coefficient() tidies them when asked, not every one up front
+                coefficients[ib] = cp + cm
+                coefficients[ios] = (cp - cm) / 2
                 sources += [SourceInfo(ib, "bias", owner, ib), SourceInfo(ios, "bias", owner, ios)]
             elif info.kind == "bias" and name.endswith(".Ib-"):
                 continue
@@ -410,12 +412,27 @@ class Result(FrequencyResponse):
         g0 = self.ideal().coefficient(sig)
         if g0 == 0:
             raise NoSolutionError(f"the ideal gain from {sig} is zero; no fractional error")
-        error = sp.factor(sp.cancel(sp.together(g / g0 - 1)))
+        errors = section_errors(g, g0, {LAPLACE})  # per section: never the whole product
         if order is None:
-            return error
+            return error_product(errors)
         if order != 1:
             raise InvalidValueError("gain_error: order must be None (exact) or 1")
-        gains = sorted(
+        gains = self._gain_symbols()
+        if not gains:
+            raise InvalidValueError(
+                "gain_error(order=1) expands in 1/A and needs symbolic gains; "
+                "declare the op-amps with gain='finite'"
+            )
+        if len(errors) > 1:
+            terms = [first_order(e, gains, strict=True) for e in errors]
+            if all(term is not None for term in terms):
+                return sp.Add(*terms)  # Π(1 + εᵢ) − 1 = Σ εᵢ + (second order)
+        whole = sp.factor(sp.cancel(sp.together(error_product(errors))))
+        return first_order(whole, gains)
+
+    def _gain_symbols(self) -> list[sp.Symbol]:
+        """The open-loop gain symbols left symbolic, sorted by name."""
+        return sorted(
             {
                 g
                 for a in self._circuit.opamps
@@ -425,15 +442,6 @@ class Result(FrequencyResponse):
             },
             key=str,
         )
-        if not gains:
-            raise InvalidValueError(
-                "gain_error(order=1) expands in 1/A and needs symbolic gains; "
-                "declare the op-amps with gain='finite'"
-            )
-        t = sp.Dummy("t", positive=True)
-        num, den = sp.fraction(sp.cancel(sp.together(error.xreplace({a: a / t for a in gains}))))
-        num_p, den_p = sp.Poly(num, t), sp.Poly(den, t)
-        return sp.factor(num_p.coeff_monomial(t) / den_p.coeff_monomial(1))
 
     def sensitivity(
         self,
@@ -453,12 +461,12 @@ class Result(FrequencyResponse):
         """
         y = self.coefficient(self._signal(signal)) if of == "gain" else self.coefficient(of)
         x = self._free_symbol(component, "sensitivity")
-        dy = sp.diff(y, x)
         if not normalized:
+            dy = sp.diff(y, x)
             return tidy(dy) if dy != 0 else sp.S.Zero
         if y == 0:
             raise NoSolutionError(f"the coefficient of {of} is zero; no normalized sensitivity")
-        return sp.factor(sp.cancel(sp.together(x * dy / y)))
+        return product_sensitivity(y, x)  # the sum over the factors that contain x
 
     def common_mode(self, opamp: str) -> sp.Expr:
         """The common-mode voltage at op-amp ``opamp``'s inputs, from the signals alone.
