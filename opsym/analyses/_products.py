@@ -37,6 +37,7 @@ from .present import EXPAND_LIMIT, expanded_terms, product_factors
 __all__ = [
     "error_product",
     "first_order",
+    "first_order_of_product",
     "product_gain_error",
     "product_sensitivity",
     "section_errors",
@@ -115,3 +116,19 @@ def first_order(error: sp.Expr, gains: list[sp.Symbol], strict: bool = False) ->
     if strict and num_p.coeff_monomial(1) != 0:
         return None
     return sp.factor(num_p.coeff_monomial(t) / den_p.coeff_monomial(1))
+
+
+def first_order_of_product(errors: list[sp.Expr], gains: list[sp.Symbol]) -> sp.Expr:
+    """The first order in ``1/A`` of ``Π(1 + εᵢ) − 1``: ``Σ`` of the sections' first orders.
+
+    That holds when every ``εᵢ`` vanishes as the gains grow; otherwise (or for
+    one section) the product is brought over one denominator first.
+    """
+    if len(errors) > 1:
+        terms = [first_order(e, gains, strict=True) for e in errors]
+        if all(term is not None for term in terms):
+            return sp.Add(*terms)  # Π(1 + εᵢ) − 1 = Σ εᵢ + (second order)
+    whole = sp.factor(sp.cancel(sp.together(error_product(errors))))
+    result = first_order(whole, gains)
+    assert result is not None  # not strict: never None
+    return result

@@ -41,7 +41,7 @@ from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
 from ._ideal import ideal_circuit, ideal_gains, ideal_limit
 from ._null import null_equation
-from ._products import error_product, first_order, product_sensitivity, section_errors
+from ._products import error_product, first_order_of_product, product_sensitivity, section_errors
 from .present import at_infinity, tidy, transfer_form
 from .response import FrequencyResponse
 
@@ -397,7 +397,9 @@ class Result(FrequencyResponse):
         """Fractional signal-gain error ``(G − G_ideal)/G_ideal`` from finite open-loop gain.
 
         Negative when the gain falls short. ``order=1`` gives the first-order
-        term in ``1/A`` (``−1/(A·beta)`` for a single stage).
+        term in ``1/A`` (``−1/(A·beta)`` for a single stage). A cascade's gain
+        is worked section by section: the exact error is ``Π(1 + εᵢ) − 1`` over
+        its sections (left as that product), the first order ``Σ`` of theirs.
 
         Examples
         --------
@@ -423,12 +425,7 @@ class Result(FrequencyResponse):
                 "gain_error(order=1) expands in 1/A and needs symbolic gains; "
                 "declare the op-amps with gain='finite'"
             )
-        if len(errors) > 1:
-            terms = [first_order(e, gains, strict=True) for e in errors]
-            if all(term is not None for term in terms):
-                return sp.Add(*terms)  # Π(1 + εᵢ) − 1 = Σ εᵢ + (second order)
-        whole = sp.factor(sp.cancel(sp.together(error_product(errors))))
-        return first_order(whole, gains)
+        return first_order_of_product(errors, gains)
 
     def _gain_symbols(self) -> list[sp.Symbol]:
         """The open-loop gain symbols left symbolic, sorted by name."""
@@ -452,7 +449,9 @@ class Result(FrequencyResponse):
     ) -> sp.Expr:
         """Sensitivity of a coefficient (``of`` a source, or ``"gain"``) to ``component``.
 
-        Normalized: ``S = (x/y)·∂y/∂x``; otherwise ``∂y/∂x``.
+        Normalized: ``S = (x/y)·∂y/∂x``, the sum of the sensitivities of the
+        coefficient's factors that contain ``x`` (a cascade: only the section
+        holding the component); otherwise ``∂y/∂x``.
 
         Examples
         --------
