@@ -17,6 +17,8 @@ Examples
 
 from __future__ import annotations
 
+import functools
+
 import sympy as sp
 
 __all__ = [
@@ -250,10 +252,14 @@ def transfer_pieces(
     return tidy(gain, limit), order, sp.Mul(*num), sp.Mul(*den)
 
 
+@functools.lru_cache(maxsize=4096)
 def _pieces(
     expr: sp.Expr, s: sp.Symbol, limit: int
 ) -> tuple[sp.Expr, int, sp.Expr, sp.Expr] | None:
-    """``(K, m, N, D)`` with ``expr = K·s**m·N/D``, ``N(0) = D(0) = 1``; ``None`` if too large."""
+    """``(K, m, N, D)`` with ``expr = K·s**m·N/D``, ``N(0) = D(0) = 1``; ``None`` if too large.
+
+    Cached: the sections after a source are shared by many coefficients.
+    """
     if sp.count_ops(expr) > limit or expanded_terms(expr) > EXPAND_LIMIT:
         return None
     num, den = sp.fraction(sp.cancel(sp.together(expr)))
