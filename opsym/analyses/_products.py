@@ -78,7 +78,8 @@ def product_gain_error(g: sp.Expr, g0: sp.Expr, shared: set[sp.Symbol]) -> sp.Ex
     """``g/g0 − 1`` exactly, as ``Π(1 + εᵢ) − 1`` over the sections of ``g/g0``.
 
     With one section (or none) this is ``g/g0 − 1`` over one denominator,
-    factored; sections whose ratio is 1 drop out.
+    factored (left as ``g/g0 − 1`` when the expansion would be over
+    :data:`EXPAND_LIMIT` terms); sections whose ratio is 1 drop out.
     """
     return error_product(section_errors(g, g0, shared))
 
@@ -99,8 +100,15 @@ def section_errors(g: sp.Expr, g0: sp.Expr, shared: set[sp.Symbol]) -> list[sp.E
         powers[base] = powers.get(base, 0) - k
     groups = sections([(b, k) for b, k in powers.items() if k != 0], shared) or [sp.S.One]
     groups[0] = groups[0] * (n1 / n0)
-    errors = [sp.factor(sp.cancel(sp.together(part - 1))) for part in groups]
+    errors = [_over_one_denominator(part - 1) for part in groups]
     return [e for e in errors if e != 0]
+
+
+def _over_one_denominator(expr: sp.Expr) -> sp.Expr:
+    """``expr`` cancelled and factored, or as it is when its expansion is over the limit."""
+    if expanded_terms(expr) > EXPAND_LIMIT:
+        return expr  # too large to expand: the exact, unexpanded form
+    return sp.factor(sp.cancel(sp.together(expr)))
 
 
 def first_order(error: sp.Expr, gains: list[sp.Symbol], strict: bool = False) -> sp.Expr | None:
