@@ -18,6 +18,7 @@ from __future__ import annotations
 import sympy as sp
 
 from ..errors import NoSolutionError
+from .present import product_factors
 
 __all__ = ["admissible_roots", "null_equation", "null_roots"]
 
@@ -44,7 +45,52 @@ def null_equation(expr: sp.Expr, x: sp.Symbol, what: str, shown: str, cannot: st
 
 
 def null_roots(expr: sp.Expr, x: sp.Symbol) -> list[sp.Expr]:
-    """Every root of ``expr`` in ``x`` (the numerator's), linear forms first."""
+    """Every root of ``expr`` in ``x`` (the numerator's), linear forms first.
+
+    A product is zero where one of its factors in ``x`` is (a cascade's
+    coefficient: section by section, never expanded as a whole); a sum has
+    the factors common to all its terms taken out first.
+    """
+    common, rest = _common_factors(expr)
+    factors = [(b, k) for b, k in common if k > 0 and x in b.free_symbols]
+    if factors or rest is not expr:
+        roots: list[sp.Expr] = []
+        parts = [b for b, _ in factors] + ([rest] if x in rest.free_symbols else [])
+        for part in parts:
+            roots += [r for r in _roots(part, x) if r not in roots]
+        return roots
+    return _roots(expr, x)
+
+
+def _common_factors(expr: sp.Expr) -> tuple[list[tuple[sp.Expr, int]], sp.Expr]:
+    """``([(base, k), …], rest)`` with ``expr = Π base**k · rest``: the factors every term shares.
+
+    For a product, every factor but numbers (``rest`` is the number); for a
+    sum, the bases found in every term with powers of one sign, taken out at
+    the smaller power.
+    """
+    if not isinstance(expr, sp.Add):
+        number, powers = product_factors(expr)
+        return powers, number
+    terms = [product_factors(a) for a in expr.args]
+    common = dict(terms[0][1])
+    for _, powers in terms[1:]:
+        here = dict(powers)
+        common = {
+            b: (min(k, here[b]) if k > 0 else max(k, here[b]))
+            for b, k in common.items()
+            if b in here and (k > 0) == (here[b] > 0)
+        }
+    if not common:
+        return [], expr
+    rest = sp.Add(*[
+        sp.Mul(n, *[b ** (k - common.get(b, 0)) for b, k in powers]) for n, powers in terms
+    ])  # fmt: skip
+    return list(common.items()), rest
+
+
+def _roots(expr: sp.Expr, x: sp.Symbol) -> list[sp.Expr]:
+    """Every root of ``expr`` in ``x``, from its numerator over one denominator."""
     numerator = sp.fraction(sp.together(expr))[0]
     numerator = sp.expand(numerator)
     linear = _linear_root(numerator, x)

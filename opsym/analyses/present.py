@@ -17,12 +17,17 @@ Examples
 
 from __future__ import annotations
 
+import functools
+
 import sympy as sp
 
 __all__ = [
+    "EXPAND_LIMIT",
     "TIDY_LIMIT",
     "Parallel",
     "at_infinity",
+    "expanded_terms",
+    "product_factors",
     "tidy",
     "trade_form",
     "transfer_form",
@@ -30,6 +35,108 @@ __all__ = [
 
 #: Largest operation count of a sum that :func:`tidy` still factors.
 TIDY_LIMIT = 1500
+#: Largest term count of the *expanded* numerator plus denominator (as estimated by
+#: :func:`expanded_terms`, before anything is expanded) that is still collected and
+#: factored as a whole; larger expressions keep their factored or nested form.
+EXPAND_LIMIT = 2000
+
+
+def expanded_terms(expr: sp.Expr) -> int:
+    """Estimate the terms of ``expr`` over one denominator, expanded, without expanding it.
+
+    The numerator's and the denominator's term counts are added. A product
+    multiplies its factors' counts, a sum brings its terms over the distinct
+    denominators they have (as :func:`sympy.together` would) and adds; no
+    cancellation is assumed, so the estimate is an upper bound for
+    polynomials in the symbols. A cascade of ``n`` sections of ``k`` terms
+    each counts ``k**n``: the size a whole-product expansion would reach.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> a, b, c, d = sp.symbols("a b c d")
+    >>> expanded_terms((a + b) * (c + d) / (a + c))
+    6
+    >>> expanded_terms(1 / (a + b) + 1 / (c + d))
+    8
+    """
+    num, den = _terms(expr)
+    return num + _den_count(den)
+
+
+def _den_count(den: dict) -> int:
+    count = 1
+    for base, exp in den.items():
+        count *= _terms(base)[0] ** exp
+    return count
+
+
+def _terms(expr: sp.Expr) -> tuple[int, dict]:
+    """``(numerator term count, {denominator base: power})`` of ``expr`` over one denominator."""
+    if isinstance(expr, sp.Add):
+        parts = [_terms(a) for a in expr.args]
+        den: dict = {}
+        for _, d in parts:
+            for base, exp in d.items():
+                den[base] = max(den.get(base, 0), exp)
+        num = 0
+        for n, d in parts:
+            missing = {b: e - d.get(b, 0) for b, e in den.items() if e > d.get(b, 0)}
+            num += n * _den_count(missing)
+        return num, den
+    if isinstance(expr, sp.Mul):
+        num, den = 1, {}
+        for a in expr.args:
+            n, d = _terms(a)
+            num *= n
+            for base, exp in d.items():
+                den[base] = den.get(base, 0) + exp
+        return num, den
+    if isinstance(expr, sp.Pow) and expr.exp.is_Integer:
+        n, d = _terms(expr.base)
+        k = int(expr.exp)
+        if k >= 0:
+            return n**k, {b: e * k for b, e in d.items()}
+        # (n/d)**-k = d**k/n**k: the base's own numerator count comes back through _den_count
+        return _den_count({b: e * -k for b, e in d.items()}), {expr.base: -k}
+    return 1, {}
+
+
+def product_factors(expr: sp.Expr) -> tuple[sp.Expr, list[tuple[sp.Expr, int]]]:
+    """``(number, [(base, power), …])`` with ``expr = number·Π base**power``, nesting flattened.
+
+    Nested products (a cascade's block results) and integer powers of
+    products are taken apart; equal bases are merged. Nothing is expanded.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> a, b, c = sp.symbols("a b c")
+    >>> e = sp.Mul(-2, sp.Mul(a + b, 1 / c, evaluate=False), 1 / (a + b), evaluate=False)
+    >>> product_factors(e)
+    (-2, [(c, -1)])
+    """
+    number = sp.S.One
+    powers: dict[sp.Expr, int] = {}
+
+    def walk(e: sp.Expr, k: int) -> None:
+        nonlocal number
+        if e.is_Number:
+            number *= e**k
+        elif isinstance(e, sp.Mul):
+            for a in e.args:
+                walk(a, k)
+        elif isinstance(e, sp.Pow) and e.exp.is_Integer and isinstance(e.base, sp.Mul):
+            walk(e.base, k * int(e.exp))
+        else:
+            base, exp = e.as_base_exp()
+            if exp.is_Integer:
+                powers[base] = powers.get(base, 0) + k * int(exp)
+            else:
+                powers[e] = powers.get(e, 0) + k
+
+    walk(expr, 1)
+    return number, [(b, k) for b, k in powers.items() if k != 0]
 
 
 def tidy(expr: sp.Expr, limit: int = TIDY_LIMIT, deep: bool = False) -> sp.Expr:
@@ -45,11 +152,14 @@ def tidy(expr: sp.Expr, limit: int = TIDY_LIMIT, deep: bool = False) -> sp.Expr:
         if any(a.is_Mul for a in expr.args):  # nested: a long cascade product
             return _factor_leaves(expr, limit, {})
         return sp.Mul(*[_factor_part(a, limit) for a in expr.args])
-    if isinstance(expr, sp.Mul) and sp.count_ops(expr) <= limit:
-        return sp.factor(expr)
-    if isinstance(expr, sp.Add) and sp.count_ops(expr) <= limit:
-        return sp.factor(sp.together(expr))
-    return expr
+    if not isinstance(expr, (sp.Mul, sp.Add)) or not _affordable(expr, limit):
+        return expr
+    return sp.factor(expr) if isinstance(expr, sp.Mul) else sp.factor(sp.together(expr))
+
+
+def _affordable(expr: sp.Expr, limit: int) -> bool:
+    """True when ``expr`` is small enough to bring over one denominator and factor."""
+    return sp.count_ops(expr) <= limit and expanded_terms(expr) <= EXPAND_LIMIT
 
 
 def _factor_part(part: sp.Expr, limit: int) -> sp.Expr:
@@ -57,7 +167,7 @@ def _factor_part(part: sp.Expr, limit: int) -> sp.Expr:
     if _has_fraction(part):
         return tidy(part, limit)
     base, exp = part.as_base_exp()
-    if isinstance(base, sp.Add) and exp.is_Integer and sp.count_ops(base) <= limit:
+    if isinstance(base, sp.Add) and exp.is_Integer and _affordable(base, limit):
         return sp.factor(base) ** exp
     return part
 
@@ -79,7 +189,12 @@ def transfer_form(expr: sp.Expr, s: sp.Symbol, limit: int = TIDY_LIMIT) -> sp.Ex
 
     The numerator and denominator are collected in powers of ``s``, each
     coefficient factored, so the DC gain ``K`` and the time constants can be
-    read off. Expressions larger than ``limit`` operations are left as solved.
+    read off. A product of several factors in ``s`` (a cascade's sections) is
+    put in this form factor by factor and never expanded as a whole: ``N`` and
+    ``D`` are then products of the sections' polynomials, each 1 at ``s = 0``,
+    and ``K`` gathers the sections' gains. A factor (or a whole expression)
+    larger than ``limit`` operations or :data:`EXPAND_LIMIT` expanded terms
+    (see :func:`expanded_terms`) is left as solved.
 
     Examples
     --------
@@ -87,19 +202,72 @@ def transfer_form(expr: sp.Expr, s: sp.Symbol, limit: int = TIDY_LIMIT) -> sp.Ex
     >>> R1, R2, C2, s = sp.symbols("R1 R2 C2 s", positive=True)
     >>> transfer_form(-1 / (R1 / R2 + s * C2 * R1), s)
     -R2/(R1*(C2*R2*s + 1))
+
+    Two RC sections in a row stay two factors, each normalised:
+
+    >>> R3, C3 = sp.symbols("R3 C3", positive=True)
+    >>> transfer_form(1 / ((R1*C2*s + 1) * (R3 + R3*C3*R2*s)), s)
+    1/(R3*(C2*R1*s + 1)*(C3*R2*s + 1))
     """
     if s not in expr.free_symbols:
         return tidy(expr, limit, deep=True)
-    if sp.count_ops(expr) > limit:
+    pieces = transfer_pieces(expr, s, limit)
+    if pieces is None:
         return expr
+    scale, low, n_poly, d_poly = pieces
+    return scale * s**low * n_poly / d_poly
+
+
+def transfer_pieces(
+    expr: sp.Expr, s: sp.Symbol, limit: int = TIDY_LIMIT
+) -> tuple[sp.Expr, int, sp.Expr, sp.Expr] | None:
+    """``(K, m, N, D)`` with ``expr = K·s**m·N/D`` and ``N(0) = D(0) = 1``; ``None`` if too large.
+
+    A product of several factors in ``s`` is split factor by factor (``N`` and
+    ``D`` are then products of polynomials, each 1 at ``s = 0``); ``None`` when
+    a factor, or the whole expression otherwise, is over the limits.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> R, C, s = sp.symbols("R C s", positive=True)
+    >>> transfer_pieces(2 / ((R*C*s + 1) * (R + C*s)), s)
+    (2/R, 0, 1, (C*s/R + 1)*(C*R*s + 1))
+    """
+    number, powers = product_factors(expr)
+    if sum(1 for b, _ in powers if s in b.free_symbols) < 2:
+        return _pieces(expr, s, limit)
+    gain, order = sp.Mul(number, *[b**k for b, k in powers if s not in b.free_symbols]), 0
+    num, den = [], []
+    for base, k in powers:
+        if s not in base.free_symbols:
+            continue
+        pieces = _pieces(base, s, limit)
+        if pieces is None:
+            return None
+        scale, low, n_poly, d_poly = pieces
+        gain, order = gain * scale**k, order + low * k
+        num += [n_poly**k if k > 0 else d_poly**-k]
+        den += [d_poly**k if k > 0 else n_poly**-k]
+    return tidy(gain, limit), order, sp.Mul(*num), sp.Mul(*den)
+
+
+@functools.lru_cache(maxsize=4096)
+def _pieces(
+    expr: sp.Expr, s: sp.Symbol, limit: int
+) -> tuple[sp.Expr, int, sp.Expr, sp.Expr] | None:
+    """``(K, m, N, D)`` with ``expr = K·s**m·N/D``, ``N(0) = D(0) = 1``; ``None`` if too large.
+
+    Cached: the sections after a source are shared by many coefficients.
+    """
+    if sp.count_ops(expr) > limit or expanded_terms(expr) > EXPAND_LIMIT:
+        return None
     num, den = sp.fraction(sp.cancel(sp.together(expr)))
     num_p, den_p = sp.Poly(num, s), sp.Poly(den, s)
     n_low = _lowest(num_p)
     d_low = _lowest(den_p)
     scale = sp.factor(num_p.coeff_monomial(s**n_low) / den_p.coeff_monomial(s**d_low))
-    n_poly = _normalised(num_p, s, n_low)
-    d_poly = _normalised(den_p, s, d_low)
-    return scale * s ** (n_low - d_low) * n_poly / d_poly
+    return scale, n_low - d_low, _normalised(num_p, s, n_low), _normalised(den_p, s, d_low)
 
 
 def _lowest(poly: sp.Poly) -> int:

@@ -41,6 +41,7 @@ from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
 from ._ideal import ideal_circuit, ideal_gains, ideal_limit
 from ._null import null_equation
+from ._products import error_product, first_order_of_product, product_sensitivity, section_errors
 from .branch import output_latex
 from .dominant import Dominant, dominant_form
 from .present import at_infinity, tidy, transfer_form
@@ -220,8 +221,9 @@ class Result(FrequencyResponse):
                 cp = self._coefficients[info.symbol]
                 cm = self._coefficients[opamp_symbol(owner, "Ib-")]
                 ib, ios = opamp_symbol(owner, "Ib"), opamp_symbol(owner, "Ios")
-                coefficients[ib] = tidy(cp + cm)
-                coefficients[ios] = tidy((cp - cm) / 2)
+                # as solved: coefficient() tidies them when asked, not every one up front
+                coefficients[ib] = cp + cm
+                coefficients[ios] = (cp - cm) / 2
                 sources += [SourceInfo(ib, "bias", owner, ib), SourceInfo(ios, "bias", owner, ios)]
             elif info.kind == "bias" and name.endswith(".Ib-"):
                 continue
@@ -397,7 +399,9 @@ class Result(FrequencyResponse):
         """Fractional signal-gain error ``(G − G_ideal)/G_ideal`` from finite open-loop gain.
 
         Negative when the gain falls short. ``order=1`` gives the first-order
-        term in ``1/A`` (``−1/(A·beta)`` for a single stage).
+        term in ``1/A`` (``−1/(A·beta)`` for a single stage). A cascade's gain
+        is worked section by section: the exact error is ``Π(1 + εᵢ) − 1`` over
+        its sections (left as that product), the first order ``Σ`` of theirs.
 
         Examples
         --------
@@ -412,12 +416,22 @@ class Result(FrequencyResponse):
         g0 = self.ideal().coefficient(sig)
         if g0 == 0:
             raise NoSolutionError(f"the ideal gain from {sig} is zero; no fractional error")
-        error = sp.factor(sp.cancel(sp.together(g / g0 - 1)))
+        errors = section_errors(g, g0, {LAPLACE})  # per section: never the whole product
         if order is None:
-            return error
+            return error_product(errors)
         if order != 1:
             raise InvalidValueError("gain_error: order must be None (exact) or 1")
-        gains = sorted(
+        gains = self._gain_symbols()
+        if not gains:
+            raise InvalidValueError(
+                "gain_error(order=1) expands in 1/A and needs symbolic gains; "
+                "declare the op-amps with gain='finite'"
+            )
+        return first_order_of_product(errors, gains)
+
+    def _gain_symbols(self) -> list[sp.Symbol]:
+        """The open-loop gain symbols left symbolic, sorted by name."""
+        return sorted(
             {
                 g
                 for a in self._circuit.opamps
@@ -427,15 +441,6 @@ class Result(FrequencyResponse):
             },
             key=str,
         )
-        if not gains:
-            raise InvalidValueError(
-                "gain_error(order=1) expands in 1/A and needs symbolic gains; "
-                "declare the op-amps with gain='finite'"
-            )
-        t = sp.Dummy("t", positive=True)
-        num, den = sp.fraction(sp.cancel(sp.together(error.xreplace({a: a / t for a in gains}))))
-        num_p, den_p = sp.Poly(num, t), sp.Poly(den, t)
-        return sp.factor(num_p.coeff_monomial(t) / den_p.coeff_monomial(1))
 
     def sensitivity(
         self,
@@ -446,7 +451,9 @@ class Result(FrequencyResponse):
     ) -> sp.Expr:
         """Sensitivity of a coefficient (``of`` a source, or ``"gain"``) to ``component``.
 
-        Normalized: ``S = (x/y)·∂y/∂x``; otherwise ``∂y/∂x``.
+        Normalized: ``S = (x/y)·∂y/∂x``, the sum of the sensitivities of the
+        coefficient's factors that contain ``x`` (a cascade: only the section
+        holding the component); otherwise ``∂y/∂x``.
 
         Examples
         --------
@@ -455,12 +462,12 @@ class Result(FrequencyResponse):
         """
         y = self.coefficient(self._signal(signal)) if of == "gain" else self.coefficient(of)
         x = self._free_symbol(component, "sensitivity")
-        dy = sp.diff(y, x)
         if not normalized:
+            dy = sp.diff(y, x)
             return tidy(dy) if dy != 0 else sp.S.Zero
         if y == 0:
             raise NoSolutionError(f"the coefficient of {of} is zero; no normalized sensitivity")
-        return sp.factor(sp.cancel(sp.together(x * dy / y)))
+        return product_sensitivity(y, x)  # the sum over the factors that contain x
 
     def common_mode(self, opamp: str) -> sp.Expr:
         """The common-mode voltage at op-amp ``opamp``'s inputs, from the signals alone.

@@ -29,7 +29,7 @@ from dataclasses import dataclass
 import numpy as np
 import sympy as sp
 
-from ..analyses.present import TIDY_LIMIT, tidy, trade_form
+from ..analyses.present import product_factors, tidy, trade_form, transfer_pieces
 from ..model.symbols import LAPLACE
 from ..numeric.units import format_si
 from ..values import to_exact
@@ -78,25 +78,11 @@ def transfer_parts(expr: sp.Expr, s: sp.Symbol = LAPLACE) -> TransferParts | Non
     expr = to_exact(expr, "transfer function")  # never sympify: text goes to the parser
     if s not in expr.free_symbols:
         return TransferParts(expr, 0, sp.S.One, sp.S.One)
-    if sp.count_ops(expr) > TIDY_LIMIT:
-        return None
-    num, den = sp.fraction(sp.cancel(sp.together(expr)))
     try:
-        num_p, den_p = sp.Poly(num, s), sp.Poly(den, s)
+        pieces = transfer_pieces(expr, s)
     except sp.PolynomialError:
         return None
-    n_low = min(m[0] for m in num_p.monoms())
-    d_low = min(m[0] for m in den_p.monoms())
-    n0, d0 = num_p.coeff_monomial(s**n_low), den_p.coeff_monomial(s**d_low)
-    gain = sp.factor(n0 / d0)
-
-    def normalised(poly: sp.Poly, low: int, lead: sp.Expr) -> sp.Expr:
-        terms = [sp.factor(c / lead) * s ** (k - low) for (k,), c in poly.terms() if c != 0]
-        return sp.Add(*terms)
-
-    return TransferParts(
-        gain, n_low - d_low, normalised(num_p, n_low, n0), normalised(den_p, d_low, d0)
-    )
+    return None if pieces is None else TransferParts(*pieces)
 
 
 def number_latex(x: sp.Expr | float, digits: int = DIGITS) -> str:
@@ -252,12 +238,13 @@ def _product_latex(
     poly: sp.Expr, order: int, s: sp.Symbol, names: Mapping[sp.Symbol, str]
 ) -> str:
     """``s^order`` times ``poly`` (``poly(0) = 1``) as LaTeX, sums in parentheses if multiplied."""
-    factors: list[str] | None = []
+    factors: list[str] = []
     one = _is_one(poly)
-    if not one and poly.free_symbols <= {s}:
-        factors = _numeric_factors(poly, s)
-    if factors is None or (not one and not factors):
-        factors = [_polynomial_latex(poly, s, names)]
+    if not one and poly.free_symbols <= {s}:  # numbers: poles and zeros in rising frequency
+        factors = _numeric_factors(poly, s) or [_polynomial_latex(poly, s, names)]
+    elif not one:  # symbolic: section by section, never expanded as a whole
+        for base, times in _polynomial_factors(poly):
+            factors += [_polynomial_latex(base, s, names)] * times
     counts: dict[str, int] = {}
     for f in factors:
         counts[f] = counts.get(f, 0) + 1
@@ -266,6 +253,14 @@ def _product_latex(
     for f, n in counts.items():
         items.append(_power(r"\left(" + f + r"\right)" if wrap else f, n))
     return " ".join(items) or "1"
+
+
+def _polynomial_factors(poly: sp.Expr) -> list[tuple[sp.Expr, int]]:
+    """The polynomials a product of sections' polynomials (each 1 at ``s = 0``) is made of."""
+    number, powers = product_factors(poly)
+    if number != 1 or any(k < 0 for _, k in powers):
+        return [(poly, 1)]  # not a product of such polynomials: one polynomial
+    return powers
 
 
 def transfer_terms(

@@ -103,3 +103,24 @@ def integrator_ring(stages: int) -> opsym.Circuit:
         c.capacitor(f"C{k}", f"n{k}", f"o{k}")
         c.opamp(f"U{k}", plus="0", minus=f"n{k}", out=f"o{k}")
     return c
+
+
+def sallen_key_chain(sections: int, gain: str = "finite") -> opsym.Circuit:
+    """``sections`` unity-gain Sallen–Key low-pass sections in a row (s domain).
+
+    Section ``k``: ``R1_k`` from the previous output to node ``a{k}``, ``R2_k``
+    on to the + pin ``p{k}``, ``C1_k`` from ``a{k}`` back to the output
+    ``o{k}`` (the feedback capacitor), ``C2_k`` from ``p{k}`` to ground; the
+    op-amp ``U{k}`` is a follower. Ideal op-amps give
+    ``1/(s²·R1R2C1C2 + s·C2(R1 + R2) + 1)`` per section. Every component is
+    symbolic; every op-amp carries Vos and Ib± (and the gain model ``gain``).
+    """
+    c = opsym.Circuit(f"{sections}-section Sallen-Key low-pass")
+    c.voltage_source("Vin", "o0", "0")
+    for k in range(1, sections + 1):
+        c.resistor(f"R1_{k}", f"o{k - 1}", f"a{k}")
+        c.resistor(f"R2_{k}", f"a{k}", f"p{k}")
+        c.capacitor(f"C1_{k}", f"a{k}", f"o{k}")
+        c.capacitor(f"C2_{k}", f"p{k}", "0")
+        c.opamp(f"U{k}", plus=f"p{k}", minus=f"o{k}", out=f"o{k}", gain=gain)
+    return c
