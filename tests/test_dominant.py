@@ -233,3 +233,11 @@ def test_note_with_dominant_terms_compiles(tmp_path, pdflatex):
     tex = opsym.design_note(c.analyze("out"), nominal=_dac_nominal(c), standalone=True)
     (tmp_path / "note.tex").write_text(tex, encoding="utf-8")
     assert pdflatex(tmp_path, "note.tex").exists()
+
+
+def test_a_sum_of_fractions_is_brought_over_one_denominator_first():
+    # Rx·(1 − A/(A + 1)) = Rx/(A + 1) exactly (algebra); the dominant form of a
+    # coefficient written as a sum of fractions is taken of that one fraction.
+    rx, a = sp.symbols("Rx1 U1.A", positive=True)
+    d = dominant_form(-rx * a / (a + 1) + rx, {rx: 100, a: 1000}, error=0.001)
+    assert sp.simplify(d.expression - rx / (a + 1)) == 0 and d.bound == 0

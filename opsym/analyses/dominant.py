@@ -66,7 +66,7 @@ from ..errors import (
     InvalidValueError,
     MissingValueError,
 )
-from ..model.limits import expect_mapping
+from ..model.limits import expect_mapping, shown
 from ..model.symbols import LAPLACE
 from .present import TIDY_LIMIT
 
@@ -249,7 +249,7 @@ def _share(error: object) -> Fraction:
         share = Fraction(-1)
     if not 0 <= share < 1:
         raise InvalidValueError(
-            f"dominant: error {error!r} must be from 0 up to below 1 (0.01 is 1 %)"
+            f"dominant: error {shown(error)} must be from 0 up to below 1 (0.01 is 1 %)"
         )
     return share
 
@@ -317,11 +317,22 @@ def _factors(coeff: sp.Expr) -> tuple[sp.Expr, dict[sp.Expr, int]]:
         base, exp = item.as_base_exp()
         if isinstance(base, sp.Mul) and exp.is_Integer:
             stack += [(a, power * int(exp)) for a in base.args]
+        elif isinstance(base, sp.Add) and exp.is_Integer and _has_fraction(base):
+            stack.append((sp.together(base), power * int(exp)))  # a sum of fractions
         elif isinstance(base, sp.Add) and exp.is_Integer:
             found[base] = found.get(base, 0) + power * int(exp)
         else:
             const *= item**power
     return const, found
+
+
+def _has_fraction(poly: sp.Add) -> bool:
+    """Whether a term of the sum divides by a sum: ``together`` makes it one fraction."""
+    return any(
+        f.as_base_exp()[1].is_negative and isinstance(f.as_base_exp()[0], sp.Add)
+        for term in poly.args
+        for f in sp.Mul.make_args(term)
+    )
 
 
 def part_sizes(coeff: sp.Expr) -> tuple[int, int]:
