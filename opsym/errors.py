@@ -25,6 +25,7 @@ __all__ = [
     "CircuitError",
     "DesignFileError",
     "DuplicateNameError",
+    "ExpansionTooLargeError",
     "FloatingNodeError",
     "InvalidValueError",
     "MissingDependencyError",
@@ -79,6 +80,10 @@ class SingularCircuitError(OpsymError, ArithmeticError):
 
 class NoSolutionError(OpsymError, ValueError):
     """A requested condition (a null, a preferred value) has no admissible solution."""
+
+
+class ExpansionTooLargeError(OpsymError, ArithmeticError):
+    """A nested result (auxiliaries ``X₁ = …``) would be too large to expand; give values."""
 
 
 class DesignFileError(OpsymError, ValueError):
