@@ -49,14 +49,14 @@ __all__ = [
     "EXPAND_LIMIT",
     "Aux",
     "definitions_of",
-    "estimated_terms",
     "expanded",
     "has_aux",
     "probe",
 ]
 
-#: Expanded forms estimated above this many monomials are refused by :func:`expanded`.
-EXPAND_LIMIT = 2000
+#: Expanded forms above this many terms are refused by :func:`expanded` (the
+#: solver's own nesting limit, ``opsym.equations.sparse.NEST_TERMS``).
+EXPAND_LIMIT = 1000
 _P = 2**61 - 1  # a Mersenne prime: probes are exact modulo it
 _serial = itertools.count(1)
 _SUB = str.maketrans("0123456789", "₀₁₂₃₄₅₆₇₈₉")
@@ -71,15 +71,16 @@ class Aux(sp.Symbol):
     expression in circuit symbols and earlier auxiliaries.
     """
 
-    __slots__ = ("_closure", "_free", "_memo", "definition", "index", "probe", "serial")
+    __slots__ = ("_closure", "_free", "_memo", "bound", "definition", "index", "probe", "serial")
 
     is_Aux = True
 
-    def __new__(cls, name: str, definition: sp.Expr, index: int) -> Aux:
+    def __new__(cls, name: str, definition: sp.Expr, index: int, bound: int = 0) -> Aux:
         obj = sp.Symbol.__xnew__(cls, name)  # type: ignore[attr-defined]
         obj.serial = next(_serial)
         obj.index = index
         obj.definition = definition
+        obj.bound = bound  # the expanded form is known to pass this many terms
         deps = [a for a in definition.atoms(Aux)]
         obj._free = frozenset(definition.free_symbols)
         closure: set[Aux] = {obj}
@@ -91,12 +92,18 @@ class Aux(sp.Symbol):
         return obj
 
     @classmethod
-    def define(cls, definition: sp.Expr, index: int, name: str | None = None) -> Aux:
-        """A new auxiliary ``X_index`` (or ``name``) for ``definition``."""
-        return cls(name or "X" + str(index).translate(_SUB), definition, index)
+    def define(
+        cls, definition: sp.Expr, index: int, name: str | None = None, bound: int = 0
+    ) -> Aux:
+        """A new auxiliary ``X_index`` (or ``name``) for ``definition``.
+
+        ``bound``: the block's expanded form is known to have more terms than
+        this (the solver saw it before it switched to the nested form).
+        """
+        return cls(name or "X" + str(index).translate(_SUB), definition, index, bound)
 
     def __getnewargs_ex__(self):
-        return ((self.name, self.definition, self.index), {})
+        return ((self.name, self.definition, self.index, self.bound), {})
 
     def _hashable_content(self):
         return (*sp.Symbol._hashable_content(self), self.serial)
@@ -162,7 +169,7 @@ class Aux(sp.Symbol):
                     aux._memo[key] = sp.S.Zero
                     continue
                 d = sp.diff(aux.definition, s)
-                aux._memo[key] = _named_if_large(d, aux.index, f"∂{aux.name}/∂{s}")
+                aux._memo[key] = _named_if_large(d, aux.index, f"∂{aux.name}/∂{s}", aux.bound)
         return self._memo[key]
 
 
@@ -183,13 +190,13 @@ def _renamed(aux: Aux, new: sp.Expr) -> Any:
     """The substituted definition: a number or small expression as is, else a new ``Xₖ``."""
     if not new.free_symbols or _ops(new) <= SMALL:
         return new
-    return Aux(aux.name, new, aux.index)
+    return Aux(aux.name, new, aux.index, aux.bound)
 
 
-def _named_if_large(expr: sp.Expr, index: int, name: str) -> Any:
+def _named_if_large(expr: sp.Expr, index: int, name: str, bound: int = 0) -> Any:
     if _ops(expr) <= SMALL or not expr.free_symbols:
         return expr
-    return Aux(name, expr, index)
+    return Aux(name, expr, index, bound)
 
 
 #: Entries with more operations than this are named by an auxiliary symbol.
@@ -228,54 +235,76 @@ def definitions_of(exprs: sp.Expr | Iterable[sp.Expr]) -> tuple[tuple[Aux, sp.Ex
 def expanded(expr: sp.Expr, limit: int = EXPAND_LIMIT) -> sp.Expr:
     """``expr`` with every auxiliary replaced by its definition, cancelled.
 
-    Raises :class:`~opsym.errors.ExpansionTooLargeError` when the expanded
-    numerator or denominator is estimated above ``limit`` monomials.
+    The definitions are expanded in order over the rational functions of the
+    circuit symbols, each cancelled; as soon as one passes ``limit`` terms
+    (numerator and denominator together) the expansion stops and
+    :class:`~opsym.errors.ExpansionTooLargeError` says how large it got, so a
+    refusal costs no more than expanding to the limit.
     """
     defs = definitions_of(expr)
     if not defs:
         return expr
-    size = estimated_terms(expr)
-    if size > limit:
+    known = max(aux.bound for aux, _ in defs)
+    if known > limit:
         raise ExpansionTooLargeError(
-            f"the expanded form would have about {size} terms (limit {limit}); it is kept "
-            f"as a sequence of {len(defs)} definitions X₁ = …. Give values for a numeric "
-            "answer (subs with numbers, budgets), or raise the limit: expanded(limit=...)"
+            f"the expanded form has more than {known} terms (limit {limit}): the solver "
+            f"met that many before it kept the result as {len(defs)} definitions X₁ = …. "
+            "Give values for a numeric answer (subs with numbers, budgets), or raise the "
+            "limit (expanded(limit=...)), which may take minutes"
         )
-    values: dict[Aux, sp.Expr] = {}
-    for aux, definition in defs:
-        values[aux] = sp.cancel(definition.xreplace(values))
-    return sp.factor_terms(sp.cancel(expr.xreplace(values)))
+    symbols = sorted(expr.free_symbols, key=str)
+    try:
+        field = sp.ZZ.frac_field(*symbols) if symbols else sp.QQ
+        values: dict[sp.Basic, Any] = {}
+        for k, (aux, definition) in enumerate(defs, start=1):
+            values[aux] = _in_field(definition, field, values)
+            _check_size(values[aux], limit, aux, len(defs) - k)
+        value = _in_field(expr, field, values)
+        _check_size(value, limit, None, 0)
+        return sp.factor_terms(field.to_sympy(value))
+    except (TypeError, sp.CoercionFailed):  # not a rational function over the integers
+        out: dict[sp.Basic, sp.Expr] = {}
+        for aux, definition in defs:
+            out[aux] = sp.cancel(definition.xreplace(out))
+        return sp.factor_terms(sp.cancel(expr.xreplace(out)))
 
 
-def estimated_terms(expr: sp.Expr) -> int:
-    """An estimate of the monomial count of ``expr`` expanded (cheap, from the definitions).
+def _check_size(value: Any, limit: int, aux: Aux | None, later: int) -> None:
+    numer = getattr(value, "numer", None)
+    if numer is None:
+        return
+    size = len(numer) + len(value.denom)
+    if size <= limit:
+        return
+    where = f"at {aux}, with {later} definitions still to go" if aux is not None else ""
+    raise ExpansionTooLargeError(
+        f"the expanded form has at least {size} terms {where} (limit {limit}); the result "
+        "is kept as a sequence of definitions X₁ = …. Give values for a numeric answer "
+        "(subs with numbers, budgets), or raise the limit (expanded(limit=...))"
+    )
 
-    Each auxiliary is counted as the product of its factors' and the sum of its
-    terms' counts (an upper bound of the expansion, without cancellation).
-    """
-    counts: dict[sp.Basic, int] = {}
-    for aux, definition in definitions_of(expr):
-        counts[aux] = _terms(definition, counts)
-    return _terms(expr, counts)
 
-
-def _terms(e: sp.Basic, counts: Mapping[sp.Basic, int]) -> int:
-    if e in counts:
-        return counts[e]
-    if e.is_Atom:
-        return 1
+def _in_field(e: sp.Basic, field: Any, values: Mapping[sp.Basic, Any]) -> Any:
+    """A small expression (auxiliaries already in ``values``) as an element of ``field``."""
+    if e in values:
+        return values[e]
     if isinstance(e, sp.Add):
-        return sum(_terms(a, counts) for a in e.args)
-    if isinstance(e, sp.Mul):
-        out = 1
+        out = field.zero
         for a in e.args:
-            out *= _terms(a, counts)
+            out += _in_field(a, field, values)
         return out
-    if isinstance(e, sp.Pow):
-        base = _terms(e.base, counts)
-        n = abs(int(e.exp)) if e.exp.is_Integer else 1
-        return base**n if base > 1 else 1
-    return sum(_terms(a, counts) for a in e.args) or 1
+    if isinstance(e, sp.Mul):
+        out = field.one
+        for a in e.args:
+            out *= _in_field(a, field, values)
+        return out
+    if isinstance(e, sp.Pow) and e.exp.is_Integer:
+        return _in_field(e.base, field, values) ** int(e.exp)
+    if isinstance(e, Aux):
+        raise TypeError(f"{e} used before its definition")
+    if e.is_Rational or isinstance(e, sp.Symbol):
+        return field.from_sympy(e)
+    raise TypeError(f"not a rational function: {e}")
 
 
 # -- probes: exact values modulo a prime at a fixed random-looking point -------------------
@@ -336,15 +365,16 @@ class NestedSingular(Exception):
 class _Namer:
     """Names every large new entry ``X₁, X₂, …`` in the order it is made."""
 
-    def __init__(self) -> None:
+    def __init__(self, bound: int) -> None:
         self.count = 0
+        self.bound = bound
 
     def __call__(self, expr: sp.Expr) -> sp.Expr:
         expr = sp.together(expr)
         if _ops(expr) <= SMALL or not expr.free_symbols:
             return expr
         self.count += 1
-        return Aux.define(expr, self.count)
+        return Aux.define(expr, self.count, bound=self.bound)
 
 
 def solve_nested(
@@ -352,14 +382,16 @@ def solve_nested(
     rhs: dict[int, dict[Any, sp.Expr]],
     cols: list[int],
     progress: Progress | None = None,
+    bound: int = 0,
 ) -> dict[int, dict[Any, sp.Expr]]:
     """Solve ``rows · X = rhs`` by Gaussian elimination into a sequence of expressions.
 
     Entries are SymPy rational functions. Pivots follow the Markowitz rule
     among entries whose probe (:func:`probe`) is nonzero; an update whose probe
     is zero is dropped as an exact zero. Every new entry above :data:`SMALL`
-    operations becomes an :class:`Aux`. ``progress(done, total, what)`` is
-    called after each pivot.
+    operations becomes an :class:`Aux` (``bound``: the size in terms the
+    expanded form is known to pass). ``progress(done, total, what)`` is called
+    after each pivot.
 
     Examples
     --------
@@ -369,7 +401,7 @@ def solve_nested(
     >>> sp.simplify(x[1]["b"] - R1)
     0
     """
-    name = _Namer()
+    name = _Namer(bound)
     a = {r: {c: v for c, v in row.items() if probe(v)} for r, row in rows.items()}
     b = {r: {k: v for k, v in row.items() if probe(v)} for r, row in rhs.items()}
     col_rows: dict[int, set[int]] = {c: set() for c in cols}

@@ -106,13 +106,14 @@ def solve_block(
     if method != "field" and domain.is_FractionField and domain.domain == sp.ZZ:
         limit = NEST_TERMS if nest_terms is None else nest_terms
         report = progress if len(cols) >= _REPORT_FROM else None
+        bound = 0
         if method != "nested" and limit > 0:
             eng = engine(domain.field.ring, method)
             try:
                 return _fraction_free(a, b, cols, eng, (limit, report))
-            except _TooLarge:
-                pass
-        return _nested(a, b, cols, domain, report)
+            except _TooLarge as err:
+                bound = err.args[0]
+        return _nested(a, b, cols, domain, (report, bound))
     solution = _eliminate(a, b, cols, domain)
     cache: dict = {}  # entries of one block share its determinant: factor it once
     return {
@@ -120,11 +121,11 @@ def solve_block(
     }
 
 
-def _nested(a, b, cols, domain, progress):
+def _nested(a, b, cols, domain, watch):
     rows = {r: {c: domain.to_sympy(v) for c, v in row.items()} for r, row in a.items()}
     rhs = {r: {k: domain.to_sympy(v) for k, v in row.items()} for r, row in b.items()}
     try:
-        return solve_nested(rows, rhs, cols, progress)
+        return solve_nested(rows, rhs, cols, *watch)
     except NestedSingular:
         raise SingularBlock from None
 
@@ -257,7 +258,7 @@ def _bareiss_row(eng, row, prow, step, pc, track):
         if new is not None and new != 0 and prev is not None:
             new = eng.exquo(new, prev)
             if limit and eng.size(new) > limit:
-                raise _TooLarge
+                raise _TooLarge(eng.size(new))
         if new is None or new == 0:
             if c in row:
                 del row[c]
