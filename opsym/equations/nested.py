@@ -123,6 +123,9 @@ class Aux(sp.Symbol):
 
     # -- substitution and differentiation look through the definition ------------------
 
+    def xreplace(self, rule: Mapping, hack2: bool = False) -> Any:  # type: ignore[override]
+        return self._xreplace(rule)[0]  # an Atom's own xreplace would not look inside
+
     def _xreplace(self, rule: Mapping) -> tuple[Any, bool]:
         if self in rule:
             return rule[self], True

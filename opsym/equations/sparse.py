@@ -47,7 +47,7 @@ __all__ = ["NEST_TERMS", "SingularBlock", "readable", "solve_block"]
 #: A fraction-free entry with more terms than this sends its block to the nested path.
 NEST_TERMS = 1000
 #: Blocks with at least this many equations report progress at every pivot.
-_REPORT_FROM = 16
+_REPORT_FROM = 8
 
 
 class SingularBlock(Exception):
