@@ -108,6 +108,7 @@ class MissingValueError(BudgetError):
     the message names them."""
 
 
-class ExpressionTooLargeError(OpsymError, ValueError):
-    """An expression would expand beyond what opsym computes with; the message gives the
-    estimated size and the limit."""
+class ExpressionTooLargeError(OpsymError, ArithmeticError):
+    """An expression would expand beyond what opsym computes with (a nested result's
+    ``X₁ = …`` written out, a dominant-term part); the message gives the estimated size
+    and what to do instead (usually: give values)."""

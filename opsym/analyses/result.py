@@ -34,12 +34,20 @@ from typing import TYPE_CHECKING, Any
 import sympy as sp
 
 from .._services import call
-from ..errors import InvalidValueError, NoSolutionError, SingularCircuitError, UnknownNameError
+from ..equations.nested import EXPAND_LIMIT, definitions_of, has_aux
+from ..errors import (
+    InvalidValueError,
+    NoSolutionError,
+    OpsymError,
+    SingularCircuitError,
+    UnknownNameError,
+)
 from ..model.circuit import Circuit
 from ..model.elements import OpAmp
 from ..model.limits import admissible, exact_value, expect_mapping, shown
 from ..model.symbols import LAPLACE, latex_name, opamp_symbol
 from ._ideal import ideal_circuit, ideal_gains, ideal_limit
+from ._nested import needs_expanded
 from ._null import null_equation
 from ._products import error_product, first_order_of_product, product_sensitivity, section_errors
 from .branch import output_latex
@@ -194,10 +202,52 @@ class Result(FrequencyResponse):
         if sym not in self._readable:
             raw = self._coefficients[sym]
             if self._domain == "s" and LAPLACE in raw.free_symbols:
-                self._readable[sym] = transfer_form(raw, LAPLACE)
+                self._readable[sym] = transfer_form(self._expanded_or_raw(raw), LAPLACE)
+            elif has_aux(raw):  # nested: small in X₁…, so collect it over one denominator
+                self._readable[sym] = tidy(sp.cancel(raw), deep=self._substituted)
             else:
                 self._readable[sym] = tidy(raw, deep=self._substituted)
         return self._readable[sym]
+
+    @property
+    def definitions(self) -> tuple[tuple[sp.Symbol, sp.Expr], ...]:
+        """The auxiliaries ``(Xₖ, definition)`` the coefficients use, earliest first.
+
+        Empty unless a block was too large to expand and was solved as a
+        sequence of expressions (see docs/method.md): then coefficients are
+        short expressions in ``X₁, X₂, …``, each defined in circuit symbols and
+        earlier auxiliaries. Numbers (:meth:`subs` with values, budgets,
+        tolerance and temperature studies) evaluate the definitions forward.
+        """
+        return definitions_of(list(self._coefficients.values()))
+
+    def expanded(self, limit: int = EXPAND_LIMIT) -> Result:
+        """The same result with every auxiliary ``Xₖ`` replaced by its definition.
+
+        Raises :class:`~opsym.ExpressionTooLargeError` with the estimated size
+        when the expanded form would pass ``limit`` terms.
+
+        Examples
+        --------
+        >>> _stage().expanded().coefficient("U1.Vos")
+        (R1 + R2)/R1
+        """
+        if not self.definitions:
+            return self
+        coefficients = {
+            s: needs_expanded(c, f"expanded() of {s}", limit)
+            for s, c in self._coefficients.items()
+        }
+        return self._replace(coefficients=coefficients, root=None)
+
+    def _expanded_or_raw(self, raw: sp.Expr) -> sp.Expr:
+        """``raw`` expanded when it is nested and small enough, else as it is."""
+        if not has_aux(raw):
+            return raw
+        try:
+            return needs_expanded(raw, "the pole-zero form")
+        except OpsymError:
+            return raw
 
     # -- new results ----------------------------------------------------------------
 
@@ -275,6 +325,8 @@ class Result(FrequencyResponse):
         if gains is None:
             return None
         base = self._root or self
+        if has_aux(list(base._coefficients.values())):
+            return None  # a limit in A cannot look inside X₁…: derive the ideal circuit
         keep = {k: v for k, v in self._post.items() if k not in gains}
         limit = ideal_limit({s: c.xreplace(keep) for s, c in base._coefficients.items()}, gains)
         if limit is None:
@@ -297,7 +349,10 @@ class Result(FrequencyResponse):
             except SingularCircuitError:
                 finite = [a.gain for a in self._circuit.opamps if a.gain is not None]
                 gains = list({g for gain in finite for g in gain.free_symbols})
-                coefficients = {s: at_infinity(c, gains) for s, c in self._coefficients.items()}
+                coefficients = {
+                    s: at_infinity(needs_expanded(c, "the ideal limit"), gains)
+                    for s, c in self._coefficients.items()
+                }
                 return self._replace(coefficients=coefficients, root=None)
         fresh = fresh._replace(circuit=self._circuit, substituted=self._substituted)
         return fresh.with_average_bias() if self._averaged else fresh
@@ -393,6 +448,7 @@ class Result(FrequencyResponse):
         return self._null_of(total, by, what, f"({tidy(total)})", "that sum cannot be nulled")
 
     def _null_of(self, expr: sp.Expr, by: Any, what: str, shown_: str, cannot: str) -> sp.Eq:
+        expr = needs_expanded(expr, f"null of {what}")
         return null_equation(expr, self._free_symbol(by, "null"), what, shown_, cannot)
 
     def gain_error(self, signal: str | sp.Symbol | None = None, order: int | None = None):
@@ -412,8 +468,8 @@ class Result(FrequencyResponse):
         -(R1 + R2)/(R1*U1.A)
         """
         sig = self._signal(signal)
-        g = self.coefficient(sig)
-        g0 = self.ideal().coefficient(sig)
+        g = needs_expanded(self.coefficient(sig), "gain_error")
+        g0 = needs_expanded(self.ideal().coefficient(sig), "gain_error")
         if g0 == 0:
             raise NoSolutionError(f"the ideal gain from {sig} is zero; no fractional error")
         errors = section_errors(g, g0, {LAPLACE})  # per section: never the whole product

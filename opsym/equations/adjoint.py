@@ -44,11 +44,14 @@ def solve_adjoint(
     output: Mapping[int, sp.Expr],
     progress: Progress | None = None,
     method: str | None = None,
+    nest_terms: int | None = None,
 ) -> list[sp.Expr]:
     """Solve ``Mᵀz = c`` where ``c`` has entries ``output`` (unknown index → weight).
 
-    Returns ``z`` indexed by the rows (equations) of ``M``. ``method`` chooses
-    how each block is eliminated (see :func:`~opsym.equations.sparse.solve_block`).
+    Returns ``z`` indexed by the rows (equations) of ``M``. ``method`` and
+    ``nest_terms`` choose how each block is eliminated (see
+    :func:`~opsym.equations.sparse.solve_block`); ``progress`` also hears
+    every pivot of a large block.
     """
     n = len(eqs.unknowns)
     transposed: list[dict[int, sp.Expr]] = [{} for _ in range(n)]
@@ -83,7 +86,7 @@ def solve_adjoint(
         try:
             # Undriven blocks are eliminated too: a singular part of the circuit is an
             # error whichever output is asked for.
-            solution = solve_block(matrix, rhs, block, method)
+            solution = solve_block(matrix, rhs, block, method, progress, nest_terms)
         except SingularBlock:
             raise _block_error(eqs, block) from None
         if not any(rhs.values()):

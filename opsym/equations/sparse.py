@@ -14,6 +14,12 @@ presentation, done when a coefficient is shown. Domains that are not rational
 functions over the integers (numbers only, or ``EX``) are eliminated over the
 field directly.
 
+A block whose fraction-free entries grow past :data:`NEST_TERMS` terms (an
+R-2R ladder or a resistor mesh, whose expanded determinant grows
+exponentially) is solved again as a sequence of expressions
+(:mod:`opsym.equations.nested`): its results then use auxiliary symbols
+``X₁, X₂, …`` with small definitions.
+
 Examples
 --------
 >>> import sympy as sp
@@ -34,12 +40,22 @@ import sympy as sp
 from sympy.polys.constructor import construct_domain
 
 from ._poly import PolyEngine, engine
+from .nested import NestedSingular, Progress, solve_nested
 
-__all__ = ["SingularBlock", "readable", "solve_block"]
+__all__ = ["NEST_TERMS", "SingularBlock", "readable", "solve_block"]
+
+#: A fraction-free entry with more terms than this sends its block to the nested path.
+NEST_TERMS = 1000
+#: Blocks with at least this many equations report progress at every pivot.
+_REPORT_FROM = 8
 
 
 class SingularBlock(Exception):
     """The block's equations are linearly dependent."""
+
+
+class _TooLarge(Exception):
+    """A fraction-free entry passed the nesting limit."""
 
 
 def solve_block(
@@ -47,6 +63,8 @@ def solve_block(
     rhs: dict[int, dict[Hashable, sp.Expr]],
     cols: list[int],
     method: str | None = None,
+    progress: Progress | None = None,
+    nest_terms: int | None = None,
 ) -> dict[int, dict[Hashable, sp.Expr]]:
     """Solve ``matrix · X = rhs`` exactly for several right-hand-side columns.
 
@@ -59,11 +77,17 @@ def solve_block(
         the block's domain only in the sense that they are exact expressions.
     cols : list of int
         The block's columns.
-    method : {None, "flint", "sympy", "field"}
+    method : {None, "flint", "sympy", "field", "nested"}
         ``None`` eliminates fraction-free with the default polynomial engine;
         ``"flint"`` or ``"sympy"`` chooses the engine; ``"field"`` eliminates
         over the rational functions and factors every result (the reference
-        the tests compare with).
+        the tests compare with); ``"nested"`` forces the sequence of
+        expressions.
+    progress : callable, optional
+        ``progress(done, total, what)`` after each pivot of a large block.
+    nest_terms : int, optional
+        The nesting limit in terms (default :data:`NEST_TERMS`; 0 nests every
+        block over rational functions).
 
     Returns
     -------
@@ -80,12 +104,30 @@ def solve_block(
     a = {r: {c: next(it) for c in row} for r, row in matrix.items()}
     b = {r: {k: next(it) for k in row} for r, row in rhs.items()}
     if method != "field" and domain.is_FractionField and domain.domain == sp.ZZ:
-        return _fraction_free(a, b, cols, engine(domain.field.ring, method))
+        limit = NEST_TERMS if nest_terms is None else nest_terms
+        report = progress if len(cols) >= _REPORT_FROM else None
+        bound = 0
+        if method != "nested" and limit > 0:
+            eng = engine(domain.field.ring, method)
+            try:
+                return _fraction_free(a, b, cols, eng, (limit, report))
+            except _TooLarge as err:
+                bound = err.args[0]
+        return _nested(a, b, cols, domain, (report, bound))
     solution = _eliminate(a, b, cols, domain)
     cache: dict = {}  # entries of one block share its determinant: factor it once
     return {
         c: {k: readable(v, domain, cache) for k, v in sol.items()} for c, sol in solution.items()
     }
+
+
+def _nested(a, b, cols, domain, watch):
+    rows = {r: {c: domain.to_sympy(v) for c, v in row.items()} for r, row in a.items()}
+    rhs = {r: {k: domain.to_sympy(v) for k, v in row.items()} for r, row in b.items()}
+    try:
+        return solve_nested(rows, rhs, cols, *watch)
+    except NestedSingular:
+        raise SingularBlock from None
 
 
 def _eliminate(a, b, cols, domain):
@@ -151,8 +193,13 @@ def _eliminate(a, b, cols, domain):
     return x
 
 
-def _fraction_free(a, b, cols, eng: PolyEngine):
-    """Bareiss elimination of ``[a | b]`` over ``ZZ[block symbols]``, rows cleared first."""
+def _fraction_free(a, b, cols, eng: PolyEngine, watch=(0, None)):
+    """Bareiss elimination of ``[a | b]`` over ``ZZ[block symbols]``, rows cleared first.
+
+    ``watch = (limit, progress)``: raises :class:`_TooLarge` when an entry has
+    more than ``limit`` terms (0: no limit); reports each pivot to ``progress``.
+    """
+    limit, progress = watch
     ring = eng.ring
     rows, rhs = {}, {}
     for r, row in a.items():
@@ -182,20 +229,23 @@ def _fraction_free(a, b, cols, eng: PolyEngine):
             if f is not None:
                 col_rows[pc].discard(r)
             p = rows[pr][pc]
-            _bareiss_row(eng, rows[r], rows[pr], (p, f, prev), pc, (col_rows, r))
-            _bareiss_row(eng, rhs[r], rhs[pr], (p, f, prev), None, None)
+            _bareiss_row(eng, rows[r], rows[pr], (p, f, prev, limit), pc, (col_rows, r))
+            _bareiss_row(eng, rhs[r], rhs[pr], (p, f, prev, limit), None, None)
         prev = rows[pr][pc]
+        if progress is not None:
+            progress(len(order), len(rows), f"eliminating a block of {len(rows)} equations")
     return _back_substitute(eng, rows, rhs, order, prev)
 
 
 def _bareiss_row(eng, row, prow, step, pc, track):
-    """``row ← (p·row − f·prow)/prev`` in place, ``step = (p, f, prev)``.
+    """``row ← (p·row − f·prow)/prev`` in place, ``step = (p, f, prev, limit)``.
 
     ``f`` is the row's entry in the pivot column ``pc`` (None when it has none,
     and then the row is only scaled); ``prev`` is the previous pivot (None at
     the first step). ``track = (col_rows, r)`` keeps the column index current.
+    An entry above ``limit`` terms (when nonzero) raises :class:`_TooLarge`.
     """
-    p, f, prev = step
+    p, f, prev, limit = step
     col_rows, r = track if track is not None else (None, None)
     keys = set(row) if f is None else set(row) | set(prow)
     if pc is not None:
@@ -207,6 +257,8 @@ def _bareiss_row(eng, row, prow, step, pc, track):
             new = -term if new is None else new - term
         if new is not None and new != 0 and prev is not None:
             new = eng.exquo(new, prev)
+            if limit and eng.size(new) > limit:
+                raise _TooLarge(eng.size(new))
         if new is None or new == 0:
             if c in row:
                 del row[c]

@@ -36,6 +36,7 @@ from typing import Any
 import numpy as np
 import sympy as sp
 
+from ..equations.nested import Aux
 from ..errors import BudgetError
 
 #: The stand-in for an infinite open-loop gain in numeric evaluation: G(A) at
@@ -98,7 +99,13 @@ class Exact:
             node, ready = stack.pop()
             if node in memo:
                 continue
-            if not node.args:
+            if isinstance(node, Aux):  # evaluated through its definition, forward
+                if ready:
+                    memo[node] = memo[node.definition]
+                else:
+                    stack.append((node, True))
+                    stack.append((node.definition, False))
+            elif not node.args:
                 memo[node] = node
             elif not ready:
                 stack.append((node, True))
@@ -120,7 +127,9 @@ def free_symbols_of(exprs: Iterable[sp.Basic]) -> set[sp.Symbol]:
         if node in seen:
             continue
         seen.add(node)
-        if isinstance(node, sp.Symbol):
+        if isinstance(node, Aux):  # look through to the circuit symbols
+            stack.append(node.definition)
+        elif isinstance(node, sp.Symbol):
             found.add(node)
         stack.extend(node.args)
     return found
@@ -179,6 +188,13 @@ class _Program:
         while stack:
             node, ready = stack.pop()
             if node in slot:
+                continue
+            if isinstance(node, Aux):  # a definition, computed once before its uses
+                if ready:
+                    slot[node] = slot[node.definition]
+                else:
+                    stack.append((node, True))
+                    stack.append((node.definition, False))
                 continue
             if not ready and node.args and not node.is_Number:
                 stack.append((node, True))

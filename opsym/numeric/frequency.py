@@ -33,6 +33,7 @@ from collections.abc import Callable, Iterable
 import numpy as np
 import sympy as sp
 
+from ..equations.nested import definitions_of, has_aux
 from ..errors import BudgetError, InvalidValueError
 from ..model.symbols import LAPLACE
 from ..values import to_exact
@@ -111,15 +112,36 @@ def _log_evaluator(expr: sp.Expr) -> Callable[[np.ndarray], np.ndarray]:
     if expr.is_Number:
         constant = complex(sp.log(expr).evalf(17)) if expr != 0 else complex(-np.inf)
         return lambda s: np.full(np.shape(s), constant, dtype=complex)
-    floats = {
-        a: sp.Float(a, 17) for a in expr.atoms(sp.Rational) if not a.is_Integer or abs(a) > 2**52
-    }
-    fn = sp.lambdify(LAPLACE, expr.xreplace(floats) if floats else expr, modules="numpy")
+    fn = _nested_function(expr) if has_aux(expr) else _function(expr, [LAPLACE])
 
     def log_of(s: np.ndarray) -> np.ndarray:
         return np.log(np.broadcast_to(np.asarray(fn(s), dtype=complex), np.shape(s)))
 
     return log_of
+
+
+def _function(expr: sp.Expr, args: list) -> Callable[..., np.ndarray]:
+    floats = {
+        a: sp.Float(a, 17) for a in expr.atoms(sp.Rational) if not a.is_Integer or abs(a) > 2**52
+    }
+    return sp.lambdify(args, expr.xreplace(floats) if floats else expr, modules="numpy")
+
+
+def _nested_function(expr: sp.Expr) -> Callable[[np.ndarray], np.ndarray]:
+    """A nested form (auxiliaries ``X₁ = …``) evaluated forward, each definition compiled once."""
+    defs = definitions_of(expr)
+    slots = {aux: sp.Dummy(f"x{k}") for k, (aux, _) in enumerate(defs)}
+    args = [LAPLACE, *slots.values()]
+    steps = [_function(d.xreplace(slots), args) for _, d in defs]
+    last = _function(expr.xreplace(slots), args)
+
+    def evaluate(s: np.ndarray) -> np.ndarray:
+        values: list = [0.0] * len(defs)
+        for k, step in enumerate(steps):
+            values[k] = step(s, *values)
+        return last(s, *values)
+
+    return evaluate
 
 
 #: Highest power of ``s`` a collected form may have and still be evaluated as a polynomial.

@@ -25,7 +25,9 @@ from typing import Any
 
 import sympy as sp
 
+from ..analyses._nested import where_latex
 from ..analyses.present import trade_form
+from ..equations.nested import has_aux
 from ..model.symbols import LAPLACE
 
 __all__ = [
@@ -137,16 +139,20 @@ def broken_latex(
     """
     table = {**result.symbol_latex(), **names}
     lines: list[str] = []
+    shown = []
     for info in result.sources:
         coeff = (result.coefficient(info.symbol) if coefficients is None
                  else coefficients.get(info.symbol, sp.S.Zero))  # fmt: skip
         if coeff != 0:
+            shown.append(coeff)
             source = table.get(info.symbol, sp.latex(info.symbol))
             lines += _source_lines(coeff, source, table, width)
     lines = lines or ["0"]
     first = lines[0][2:] if lines[0].startswith("+ ") else lines[0]
     head = result.output_latex() + " ={} & " + first
     rest = [" & " + line for line in lines[1:]]
+    if has_aux(shown):  # a nested result: its X₁ = … list follows
+        rest.append(where_latex(shown, table))
     return "\\begin{aligned}\n" + " \\\\\n".join([head, *rest]) + "\n\\end{aligned}"
 
 

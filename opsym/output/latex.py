@@ -25,6 +25,7 @@ from typing import TYPE_CHECKING
 import sympy as sp
 
 from .._services import provides
+from ..analyses._nested import where_latex
 from ..analyses.present import trade_form
 from ..errors import ArgumentTypeError
 from ..model.limits import expect_mapping
@@ -91,6 +92,8 @@ def result_latex(result: Result, names: Mapping[sp.Symbol, str] | None = None) -
     first = lines[0][2:] if lines[0].startswith("+ ") else lines[0]
     head = result.output_latex() + " ={} & " + first
     rest = [" & " + line for line in lines[1:]]
+    if result.definitions:  # a nested result: its X₁ = … list follows
+        rest.append(where_latex([result.coefficient(s.symbol) for s in result.sources], table))
     return "\\begin{aligned}\n" + " \\\\\n".join([head, *rest]) + "\n\\end{aligned}"
 
 

@@ -43,6 +43,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
+from ..analyses._nested import where_text
 from ..analyses.branch import output_text
 from ..numeric.units import format_plain
 from .circuit_text import element_lines
@@ -98,14 +99,16 @@ def _terms(study: Study) -> list[str]:
     d, res = study.design, study.result
     out = [f"Terms of {output_text(d.output)}, each source times its coefficient:"]
     width = max((len(str(s)) for s in res.terms), default=4)
+    shown = []
     for source in res.terms:
         coeff = res.coefficient(source)  # collected over one denominator, cached
+        shown.append(coeff)
         number = study.numbers.get(source)
         tail = ""
         if number is not None and not coeff.is_number:
             tail = f"   [= {format_plain(number, '', 6)}]"
         out.append(f"  {source!s:>{width}} x {coeff}{tail}")
-    return out
+    return out + [f"  {line}" for line in where_text(shown)]
 
 
 def _conditions(study: Study) -> list[str]:

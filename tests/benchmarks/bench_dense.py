@@ -4,12 +4,17 @@ Run ``python tests/benchmarks/bench_dense.py`` (not part of the test run). The
 circuits form one large block each, where block-triangular order cannot help:
 an R-2R DAC and a summing amplifier (finite gain), a k×k resistor mesh (finite
 gain) and a ring of ideal integrators in ``s``; every component is symbolic.
-Each measurement runs in a fresh subprocess with a time limit. The references
+Each measurement runs in a fresh subprocess with a time limit, in CPU seconds
+(``time.process_time``: the machine may be shared). The references
 solve the same nodal equations (rows cleared of denominators, every source
 switched on): SymPy's ``DomainMatrix.solve_den`` and, when python-flint is
 installed, a dense Bareiss elimination on ``fmpz_mpoly``. opsym's time is
 ``analyze`` and its terms from the circuit on; the references' time starts at
-the built equations. Prints a Markdown table.
+the built equations. The budget column times ``error_budget`` on opsym's
+result with every value given (resistors 10 kΩ, 2R legs 20 kΩ, sources 1 V, a
+generic op-amp parameter set); the ring, with no DC solution, has none. Blocks
+too large to expand come out nested (auxiliaries ``X₁ = …``); the budget
+evaluates their definitions forward. Prints a Markdown table.
 
 Options: ``--limit SECONDS`` (default 60), ``--quick`` (small sizes, 20 s),
 ``--cases dac4 sum16 …`` to choose cases.
@@ -31,9 +36,11 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 sys.path.insert(0, str(HERE.parents[1]))
 
-CASES = ["dac4", "dac6", "dac8", "sum4", "sum16", "sum64", "mesh2", "mesh3"] + [
-    f"ring{n}" for n in range(2, 9)
-]
+CASES = ["dac4", "dac6", "dac8", "dac12", "dac16", "sum4", "sum16", "sum64"] + [
+    "mesh2",
+    "mesh3",
+    "mesh4",
+] + [f"ring{n}" for n in range(2, 9)]
 QUICK = ["dac4", "sum4", "sum16", "mesh2", "ring2", "ring4"]
 METHODS = ("opsym", "solve_den", "flint")
 
@@ -117,22 +124,49 @@ def flint_bareiss(rows) -> None:
         x[i] = acc / a[i][i]
 
 
+def budget_values(circuit) -> dict[str, float]:
+    """Every component and source a value: 10 kΩ, 20 kΩ for 2R legs, 1 V per source."""
+    from opsym.model.elements import OpAmp
+
+    values: dict[str, float] = {}
+    for e in circuit.elements:
+        if isinstance(e, OpAmp):
+            continue
+        if e.name.startswith(("R2_", "Rt")):
+            values[e.name] = 20e3
+        elif e.name.startswith("R"):
+            values[e.name] = 10e3
+        else:
+            values[e.name] = 1.0
+    return values
+
+
 def _run_one(name: str, method: str) -> dict:
+    import opsym
     from opsym.equations.mna import build_equations
 
     circuit, out, domain, _ = circuit_of(name)
+    budget = None
     if method == "opsym":
         dict(circuit_of("sum2")[0].analyze("out").terms)  # imports and caches, paid once
-        t0 = time.perf_counter()
-        dict(circuit.analyze(out, domain=domain).terms)
+        t0 = time.process_time()
+        res = circuit.analyze(out, domain=domain)
+        dict(res.terms)
+        elapsed = time.process_time() - t0
+        if domain == "dc":
+            sets = {a.name: opsym.opamp_parameters("generic precision bipolar")
+                    for a in circuit.opamps}  # fmt: skip
+            t1 = time.process_time()
+            opsym.error_budget(res, values=budget_values(circuit), opamps=sets)
+            budget = time.process_time() - t1
     else:
         eqs = build_equations(circuit, domain=domain)
-        t0 = time.perf_counter()
+        t0 = time.process_time()
         rows = polynomial_system(eqs)
         (solve_den if method == "solve_den" else flint_bareiss)(rows)
-    elapsed = time.perf_counter() - t0
+        elapsed = time.process_time() - t0
     rss_kib = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
-    return {"time": elapsed, "rss_mb": rss_kib / 1024}
+    return {"time": elapsed, "budget": budget, "rss_mb": rss_kib / 1024}
 
 
 def _measure(name: str, method: str, limit: float) -> dict | None:
@@ -169,20 +203,22 @@ def main() -> int:
         f"Machine: {platform.machine()}, {os.cpu_count()} cores, Python "
         f"{platform.python_version()}; limit {args.limit:.0f} s per case\n"
     )
-    print("| circuit | unknowns | " + " | ".join(methods) + " | opsym peak MB |")
-    print("|---|---:|" + "---:|" * len(methods) + "---:|")
+    print("| circuit | unknowns | " + " | ".join(methods) + " | opsym budget | opsym peak MB |")
+    print("|---|---:|" + "---:|" * len(methods) + "---:|---:|")
     for case in args.cases:
         from opsym.equations.mna import build_equations
 
         circuit, _, domain, label = circuit_of(case)
         n = len(build_equations(circuit, domain=domain).unknowns)
-        cells, peak = [], "–"
+        cells, peak, budget = [], "–", "–"
         for method in methods:
             got = _measure(case, method, args.limit)
             cells.append(f"> {args.limit:.0f} s" if got is None else f"{got['time']:.2f} s")
             if method == "opsym" and got is not None:
                 peak = f"{got['rss_mb']:.0f}"
-        print(f"| {label} | {n} | " + " | ".join(cells) + f" | {peak} |", flush=True)
+                budget = "–" if got["budget"] is None else f"{got['budget']:.2f} s"
+        row = f"| {label} | {n} | " + " | ".join(cells) + f" | {budget} | {peak} |"
+        print(row, flush=True)
     return 0
 
 
