@@ -10,7 +10,6 @@ checked against its published binary weights.
 from __future__ import annotations
 
 import sys
-import time
 from pathlib import Path
 
 import circuits
@@ -122,12 +121,9 @@ def test_r2r_ladder_has_binary_weights(bits):
         assert sp.cancel(res.coefficient(f"B{i}") - want) == 0
 
 
-def test_wide_summer_is_fast():
-    """A 64-input summer (one hub node, 64 symbolic resistors) took over a minute."""
-    t0 = time.perf_counter()
+def test_wide_summer_weights():
+    """A 64-input summer (one hub node, 64 symbolic resistors; its time is in bench_dense.py)."""
     res = summer(64).analyze("out")
-    elapsed = time.perf_counter() - t0
-    assert elapsed < 30, elapsed
     # Ideal limit of each weight: −Rf/Ri (inverting summer, any op-amp text).
     names = {str(s): s for s in res.coefficient("V7").free_symbols}
     t = sp.Dummy("t", positive=True)

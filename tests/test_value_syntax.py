@@ -221,16 +221,12 @@ def test_db_to_ratio_never_overflows():
     assert math.isinf(opsym.numeric.db_to_ratio(math.inf))  # inf dB: no limit, as before
 
 
-def test_long_text_is_refused_quickly():
-    # MAX_LENGTH applies to every reader: a 100 000-character text is refused at once
-    # (quantiphy's regular expression took minutes on it).
-    import time
-
-    start = time.perf_counter()
+def test_long_text_is_refused_by_its_length():
+    # MAX_LENGTH applies to every reader: a 100 000-character text is refused for its
+    # length before any parsing (quantiphy's regular expression took minutes on it).
     for read in (parse_quantity, parse_fraction, parse_db, preferred_value):
         with pytest.raises(ValueSyntaxError, match="at most"):
             read("1" * 100_000)
-    assert time.perf_counter() - start < 1.0
 
 
 _PREFIX = st.sampled_from(["", *sorted(PREFIXES), "meg", "Meg", "MEG"])

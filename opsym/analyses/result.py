@@ -36,6 +36,7 @@ import sympy as sp
 from .._services import call
 from ..equations.nested import EXPAND_LIMIT, definitions_of, has_aux
 from ..errors import (
+    ExpressionTooLargeError,
     InvalidValueError,
     NoSolutionError,
     OpsymError,
@@ -457,7 +458,10 @@ class Result(FrequencyResponse):
         Negative when the gain falls short. ``order=1`` gives the first-order
         term in ``1/A`` (``−1/(A·beta)`` for a single stage). A cascade's gain
         is worked section by section: the exact error is ``Π(1 + εᵢ) − 1`` over
-        its sections (left as that product), the first order ``Σ`` of theirs.
+        its sections (left as that product), the first order ``Σ`` of theirs. A
+        nested result too large to expand gives the exact ``G/G_ideal − 1`` in its
+        auxiliaries ``X₁ = …`` (numbers go in by :meth:`subs`); its first order
+        needs the expanded form.
 
         Examples
         --------
@@ -468,10 +472,15 @@ class Result(FrequencyResponse):
         -(R1 + R2)/(R1*U1.A)
         """
         sig = self._signal(signal)
-        g = needs_expanded(self.coefficient(sig), "gain_error")
-        g0 = needs_expanded(self.ideal().coefficient(sig), "gain_error")
+        g, g0 = self.coefficient(sig), self.ideal().coefficient(sig)
         if g0 == 0:
             raise NoSolutionError(f"the ideal gain from {sig} is zero; no fractional error")
+        try:
+            g, g0 = needs_expanded(g, "gain_error"), needs_expanded(g0, "gain_error")
+        except ExpressionTooLargeError:
+            if order is not None:
+                raise
+            return g / g0 - 1  # nested: exact, in the result's definitions X₁ = …
         errors = section_errors(g, g0, {LAPLACE})  # per section: never the whole product
         if order is None:
             return error_product(errors)

@@ -193,7 +193,9 @@ def _renamed(aux: Aux, new: sp.Expr) -> Any:
     """The substituted definition: a number or small expression as is, else a new ``Xₖ``."""
     if not new.free_symbols or _ops(new) <= SMALL:
         return new
-    return Aux(aux.name, new, aux.index, aux.bound)
+    # The solver's size bound was of the unsubstituted block; with values in, the
+    # expanded form can be small, so it is unknown again (expanded() checks as it goes).
+    return Aux(aux.name, new, aux.index, 0)
 
 
 def _named_if_large(expr: sp.Expr, index: int, name: str, bound: int = 0) -> Any:
