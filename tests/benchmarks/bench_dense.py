@@ -4,6 +4,9 @@ Run ``python tests/benchmarks/bench_dense.py`` (not part of the test run). The
 circuits form one large block each, where block-triangular order cannot help:
 an R-2R DAC and a summing amplifier (finite gain), a k×k resistor mesh (finite
 gain) and a ring of ideal integrators in ``s``; every component is symbolic.
+Sallen–Key chains in ``s`` and the 16-stage inverting cascade, which block
+order does help, are timed against the same references (their other methods
+are in ``bench_methods.py``).
 Each measurement runs in a fresh subprocess with a time limit, in CPU seconds
 (``time.process_time``: the machine may be shared). The references
 solve the same nodal equations (rows cleared of denominators, every source
@@ -40,14 +43,28 @@ CASES = ["dac4", "dac6", "dac8", "dac12", "dac16", "sum4", "sum16", "sum64"] + [
     "mesh2",
     "mesh3",
     "mesh4",
-] + [f"ring{n}" for n in range(2, 9)]
+] + [f"ring{n}" for n in range(2, 9)] + [f"sk{n}" for n in (1, 2, 4, 8)] + ["cascade16"]
 QUICK = ["dac4", "sum4", "sum16", "mesh2", "ring2", "ring4"]
 METHODS = ("opsym", "solve_den", "flint")
 
 
 def circuit_of(name: str):
     """``(circuit, output, domain, label)`` of a benchmark case."""
-    from bench_circuits import integrator_ring, r2r_dac, resistor_mesh, summer
+    from bench_circuits import (
+        integrator_ring,
+        inverting_cascade,
+        r2r_dac,
+        resistor_mesh,
+        sallen_key_chain,
+        summer,
+    )
+
+    if name.startswith("sk"):
+        n = int(name[2:])
+        return sallen_key_chain(n), f"o{n}", "s", f"Sallen–Key chain, {n} sections in s, finite A"
+    if name.startswith("cascade"):
+        n = int(name[7:])
+        return inverting_cascade(n), f"s{n}", "dc", f"inverting cascade, {n} stages, finite A"
 
     if name.startswith("dac"):
         n = int(name[3:])
