@@ -303,3 +303,14 @@ def test_frequency_evaluator_runs_the_definitions_forward():
     want = ((w**2 + 3 * w + 2) * w + 7) / (w + 5)
     got = evaluator(x2 / (s + 5), "H")(f)
     assert np.allclose(got, want, rtol=1e-13, atol=0)
+
+
+def test_dominant_terms_of_a_nested_result_expand_or_refuse(monkeypatch):
+    """Small nested: the same dominant form as the flat result; 12 bits: a named refusal."""
+    circuit = r2r_dac(3)
+    flat, nested = circuit.analyze("out"), _nested(circuit, monkeypatch)
+    values = _dac_values(3, gain=100_000)
+    a, b = flat.dominant("U1.Ib-", values=values), nested.dominant("U1.Ib-", values=values)
+    assert sp.simplify(a.expression - b.expression) == 0 and a.bound == b.bound
+    with pytest.raises(opsym.ExpressionTooLargeError, match="dominant terms"):
+        r2r_dac(12).analyze("out").dominant("U1.Ib-", values=_dac_values(12, gain=100_000))

@@ -286,7 +286,10 @@ class ErrorQuestions:
 
         See :mod:`opsym.analyses.dominant`. ``values`` gives every symbol left in
         the coefficient (names or symbols as keys; numbers or text such as
-        ``"10k"``); a missing one raises :class:`~opsym.MissingValueError`.
+        ``"10k"``); a missing one raises :class:`~opsym.MissingValueError`. A
+        nested result is expanded first, or refused with
+        :class:`~opsym.ExpressionTooLargeError` when that is too large (its
+        numbers come from :meth:`subs` and budgets instead).
 
         Examples
         --------
@@ -298,8 +301,9 @@ class ErrorQuestions:
         sym = self._source_symbol(source)
         given = expect_mapping(values or {}, "dominant values", "{'R1': '10k'}")
         point = {self._any_symbol(k): self._value(k, v) for k, v in given.items()}
-        coeff = self.compact_coefficient(sym)
-        return dominant_form(coeff, point, error, what=f"the coefficient of {sym}")
+        what = f"the coefficient of {sym}"
+        coeff = needs_expanded(self.compact_coefficient(sym), f"dominant terms of {what}")
+        return dominant_form(coeff, point, error, what=what)
 
 
 def _stage(gain: str = "ideal") -> Any:
