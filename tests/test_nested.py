@@ -314,3 +314,11 @@ def test_dominant_terms_of_a_nested_result_expand_or_refuse(monkeypatch):
     assert sp.simplify(a.expression - b.expression) == 0 and a.bound == b.bound
     with pytest.raises(opsym.ExpressionTooLargeError, match="dominant terms"):
         r2r_dac(12).analyze("out").dominant("U1.Ib-", values=_dac_values(12, gain=100_000))
+
+
+def test_design_note_of_a_nested_result_lists_the_definitions():
+    """A note of a 10-bit ladder with finite A printed; it used to crash expanding in 1/A."""
+    res = r2r_dac(10).analyze("out")
+    note = opsym.design_note(res, fmt="markdown")
+    assert "sequence of definitions" in note and "X_{1} ={} &" in note
+    assert "first order in 1/A" not in note

@@ -334,6 +334,14 @@ _CORRECTION = (
 )
 
 
+#: What a note says before a nested result (a sequence of definitions).
+_NESTED = (
+    "The expanded form is too large to print (it grows exponentially with the network); "
+    "the output is given exactly as a sequence of definitions X₁, X₂, …, each in the "
+    "ones before it, as the solver eliminated the network:"
+)
+
+
 def _terms_blocks(result: Any, terms: str, names: dict, nominal: Any = None) -> tuple[Block, ...]:
     """The output in closed form, kept within the page.
 
@@ -347,6 +355,8 @@ def _terms_blocks(result: Any, terms: str, names: dict, nominal: Any = None) -> 
     dominant = dominant_blocks(result, names, nominal)
     if dominant is not None:
         return dominant
+    if getattr(result, "definitions", ()):  # nested: its X₁ = … list, no 1/A expansion
+        return (Paragraph(_NESTED), Math(broken_latex(result, names)))
     ideal = ideal_coefficients(result)  # from the coefficients: no second derivation
     if ideal is None:
         return (Math(broken_latex(result, names)),)
