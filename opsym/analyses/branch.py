@@ -64,6 +64,16 @@ def current_name(output: object) -> str | None:
     return m.group(1) if m else None
 
 
+def _output_parts(output: object) -> tuple[str, tuple[str, ...]]:
+    """``("I", (element,))``, ``("V", (a, b))`` or ``("V", (node,))``."""
+    element = current_name(output)
+    if element is not None:
+        return "I", (element,)
+    if isinstance(output, (tuple, list)):
+        return "V", tuple(str(n) for n in output)
+    return "V", (str(output),)
+
+
 def output_text(output: object) -> str:
     """An output in words for titles: ``V(out)``, ``V(op) - V(on)``, ``I(RL)``.
 
@@ -72,13 +82,8 @@ def output_text(output: object) -> str:
     >>> output_text("out"), output_text(("op", "on")), output_text("I(RL)")
     ('V(out)', 'V(op) - V(on)', 'I(RL)')
     """
-    element = current_name(output)
-    if element is not None:
-        return f"I({element})"
-    if isinstance(output, (tuple, list)):
-        a, b = output
-        return f"V({a}) - V({b})"
-    return f"V({output})"
+    kind, names = _output_parts(output)
+    return " - ".join(f"{kind}({n})" for n in names)
 
 
 def output_latex(output: object) -> str:
@@ -89,13 +94,8 @@ def output_latex(output: object) -> str:
     >>> output_latex("out"), output_latex(("op", "on")), output_latex("I(RL)")
     ('V_{\\mathrm{out}}', 'V_{\\mathrm{op}} - V_{\\mathrm{on}}', 'I_{\\mathrm{RL}}')
     """
-    element = current_name(output)
-    if element is not None:
-        return rf"I_{{\mathrm{{{element}}}}}"
-    if isinstance(output, (tuple, list)):
-        a, b = output
-        return rf"V_{{\mathrm{{{a}}}}} - V_{{\mathrm{{{b}}}}}"
-    return rf"V_{{\mathrm{{{output}}}}}"
+    kind, names = _output_parts(output)
+    return " - ".join(rf"{kind}_{{\mathrm{{{n}}}}}" for n in names)
 
 
 def current_weights(

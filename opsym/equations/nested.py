@@ -44,6 +44,7 @@ from typing import Any
 import sympy as sp
 
 from ..errors import ExpressionTooLargeError
+from .structure import column_index
 
 __all__ = [
     "EXPAND_LIMIT",
@@ -409,10 +410,7 @@ def solve_nested(
     name = _Namer(bound)
     a = {r: {c: v for c, v in row.items() if probe(v)} for r, row in rows.items()}
     b = {r: {k: v for k, v in row.items() if probe(v)} for r, row in rhs.items()}
-    col_rows: dict[int, set[int]] = {c: set() for c in cols}
-    for r, row in a.items():
-        for c in row:
-            col_rows[c].add(r)
+    col_rows = column_index(a, cols)
     remaining = set(a)
     order: list[tuple[int, int]] = []
     while remaining:

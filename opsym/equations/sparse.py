@@ -41,6 +41,7 @@ from sympy.polys.constructor import construct_domain
 
 from ._poly import PolyEngine, engine
 from .nested import NestedSingular, Progress, solve_nested
+from .structure import column_index
 
 __all__ = ["NEST_TERMS", "SingularBlock", "readable", "solve_block"]
 
@@ -133,10 +134,7 @@ def _nested(a, b, cols, domain, watch):
 def _eliminate(a, b, cols, domain):
     zero = domain.zero
     a = {r: {c: v for c, v in row.items() if v != zero} for r, row in a.items()}
-    col_rows: dict[int, set[int]] = {c: set() for c in cols}
-    for r, row in a.items():
-        for c in row:
-            col_rows[c].add(r)
+    col_rows = column_index(a, cols)
     remaining = set(a)
     order: list[tuple[int, int]] = []
     while remaining:
@@ -208,10 +206,7 @@ def _fraction_free(a, b, cols, eng: PolyEngine, watch=(0, None)):
             scale = scale.lcm(v.denom)
         rows[r] = {c: eng.native(v.numer * scale.exquo(v.denom)) for c, v in row.items() if v}
         rhs[r] = {k: eng.native(v.numer * scale.exquo(v.denom)) for k, v in b[r].items() if v}
-    col_rows: dict[int, set[int]] = {c: set() for c in cols}
-    for r, row in rows.items():
-        for c in row:
-            col_rows[c].add(r)
+    col_rows = column_index(rows, cols)
     remaining = set(rows)
     order: list[tuple[int, int]] = []
     prev = None  # the previous pivot: every entry divides exactly by it

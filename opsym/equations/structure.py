@@ -19,7 +19,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-__all__ = ["StructurallySingular", "block_order", "match_rows"]
+__all__ = ["StructurallySingular", "block_order", "column_index", "match_rows"]
 
 
 class StructurallySingular(Exception):
@@ -29,6 +29,21 @@ class StructurallySingular(Exception):
         super().__init__(f"unmatched rows {rows}, columns {cols}")
         self.rows = rows
         self.cols = cols
+
+
+def column_index(rows: dict[int, dict[int, object]], cols: Sequence[int]) -> dict[int, set[int]]:
+    """For each column of ``cols``, the rows that hold an entry in it (the pivot search's view).
+
+    Examples
+    --------
+    >>> column_index({0: {0: 1, 1: 1}, 1: {1: 1}}, [0, 1])
+    {0: {0}, 1: {0, 1}}
+    """
+    found: dict[int, set[int]] = {c: set() for c in cols}
+    for r, row in rows.items():
+        for c in row:
+            found[c].add(r)
+    return found
 
 
 def match_rows(rows: Sequence[dict[int, object]], n: int) -> list[int]:
