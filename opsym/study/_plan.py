@@ -126,7 +126,7 @@ def _prepare(
     sig_value = given.get(sig) if sig else None
     gain, open_loop = _signal_gain(terms, sig, sig_value, exact, ideal)
     signal_unit = _signal_unit(circuit, sig)
-    spread_notes: list[str] = []
+    spread_notes: list[str] = _either_sign(names, exact_given, opamps, grade)
     signal_names = [s.name for s in result.signals]
     spreads, rejection = _tolerance_rows(
         terms, signal_names, sig, gain, given, exact, _grades(resistors), circuit, spread_notes
@@ -239,6 +239,26 @@ def _exact_values(
     ideal = {**subs, **{s: LARGE_GAIN for s in gains}}
     subs.update((s, LARGE_GAIN) for s in infinite_gain)
     return Exact(subs), Exact(ideal)
+
+
+def _either_sign(names: Mapping[str, sp.Symbol], given: Mapping[str, sp.Expr], opamps: Any,
+                 grade: str) -> list[str]:  # fmt: skip
+    """Notes for parameters of either sign taken from a set (an FDA's ``ebal``).
+
+    A set holds a datasheet's limit, a magnitude; the coefficients use it with the
+    sign the set gives, so the note says how to see the other sign.
+    """
+    notes = []
+    for name, sym in names.items():
+        owner, _, what = name.partition(".")
+        if name in given or owner not in opamps or not _scales(what) or sym.is_positive:
+            continue
+        v = opamps[owner].value(SYMBOLS[what].datasheet, grade)
+        notes.append(
+            f"{name} = {v:g} from set {opamps[owner].name!r} is used with that sign; it may "
+            f"have either: give values[{name!r}] = {-v:g} for the other"
+        )
+    return notes
 
 
 def _scales(what: str) -> bool:

@@ -119,3 +119,5 @@ def test_a_parameter_the_set_lacks_is_named_with_its_field():
     # gain), so Vos reaches V(op) with (0.5 + ebal)·3 = 1.503 at ebal = 1e-3.
     b = opsym.error_budget(res, values, opamps={"U1": generic.replace(ebal_max=1e-3)})
     assert b.row("U1.Vos").coefficient == pytest.approx(1.503, rel=1e-12)
+    # A datasheet's balance error is a magnitude: the note says how to see the other sign.
+    assert any("U1.ebal = 0.001" in n and "= -0.001 for the other" in n for n in b.notes)
