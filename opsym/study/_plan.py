@@ -32,6 +32,7 @@ from ..numeric.adc import ADC
 from ..numeric.params import OpAmpParams, ResistorParams
 from ..numeric.units import format_plain, format_si, parse_quantity
 from ..output.tables import SHORT_CAUTION
+from .tolerance import numbered_parts, numbered_parts_text
 
 #: Words and units of each error source in the tables.
 WORST_CASE_RULE = "worst case = Σ|e| (every term at its limit, signs adding)"
@@ -441,26 +442,19 @@ def _tolerance_rows(terms, signals, sig, gain, given, exact: Exact, grades, circ
 
 
 def _fixed_resistors(circuit: Any, rows: list[_SpreadRow], notes: list[str]) -> None:
-    """Say which resistors' tolerance the budget cannot hold: those given as numbers.
+    """Say which parts' tolerance the budget cannot hold: those given as numbers.
 
-    A resistor with a number in the circuit is a constant of the solution, so its
-    tolerance cannot move anything. With ``resistors=`` asked for and nothing left
-    to budget that is an error; otherwise a note names them.
+    With ``resistors=`` asked for and nothing left to budget that is an error;
+    otherwise a note names them.
     """
-    fixed = [e.name for e in getattr(circuit, "elements", ())
-             if isinstance(e, Resistor) and e.value.is_number]  # fmt: skip
+    fixed = [name for name in numbered_parts(circuit)
+             if isinstance(circuit.element(name), Resistor)]  # fmt: skip
     if not fixed:
         return
-    listed = ", ".join(fixed)
-    how = (f"add them without a value (c.resistor('{fixed[0]}', a, b)) and give their "
-           "numbers in values=")  # fmt: skip
     if not rows:
-        raise BudgetError(
-            f"resistors=: {listed} have numbers in the circuit, so their tolerance cannot "
-            f"move the result and the budget would have no tolerance rows; {how}"
-        )
-    notes.append(f"resistor tolerance: not budgeted for {listed} (numbers in the circuit); "
-                 f"to budget them, {how}")  # fmt: skip
+        raise BudgetError(f"resistors=: {numbered_parts_text(fixed)}; the budget would "
+                          "have no tolerance rows")  # fmt: skip
+    notes.append(f"resistor tolerance: not budgeted: {numbered_parts_text(fixed)}")
 
 
 def _rejected(coeff: sp.Expr, gain: float | None, exact: Exact) -> bool:

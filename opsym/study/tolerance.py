@@ -438,14 +438,29 @@ def _absent_part(name: str, circuit: Any, where: str) -> None:
 
 def _nothing_toleranced(circuit: Any, where: str) -> None:
     """With one grade for every part and none toleranced: say why when the circuit knows."""
-    fixed = [e.name for e in getattr(circuit, "elements", ())
-             if isinstance(getattr(e, "value", None), sp.Expr) and e.value.is_number
-             and e.unit in ("Ω", "F", "H")]  # fmt: skip
+    fixed = numbered_parts(circuit)
     if fixed:
-        raise BudgetError(
-            f"{where}: {', '.join(fixed)} have numbers in the circuit, so their tolerance "
-            "cannot move the result; add them without a value and give their numbers in values="
-        )
+        raise BudgetError(f"{where}: {numbered_parts_text(fixed)}")
+
+
+def numbered_parts(circuit: Any) -> list[str]:
+    """Resistors, capacitors and inductors given a number in the circuit, by name.
+
+    Their values are constants of the solution, so no tolerance can move them.
+    """
+    return [e.name for e in getattr(circuit, "elements", ())
+            if e.unit in ("Ω", "F", "H") and e.value.is_number]  # fmt: skip
+
+
+def numbered_parts_text(names: Sequence[str]) -> str:
+    """Why ``names`` have no tolerance, and what to do, in one sentence."""
+    one = len(names) == 1
+    return (
+        f"{', '.join(names)} {'has a number' if one else 'have numbers'} in the circuit, so "
+        f"{'its' if one else 'their'} tolerance cannot move the result; add "
+        f"{'it' if one else 'them'} without a value (c.resistor('{names[0]}', a, b)) and "
+        f"give {'its number' if one else 'their numbers'} in values="
+    )
 
 
 def _quantity(quantity: Any, of: Any, signal: Any) -> tuple[sp.Expr, str]:

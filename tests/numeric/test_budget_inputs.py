@@ -57,7 +57,7 @@ def test_resistor_tolerance_of_parts_given_as_numbers_is_never_silently_dropped(
         resistors=ResistorParams.from_text("0.1%"),
     )  # fmt: skip
     assert b.row("gain: tolerance").magnitude == pytest.approx(10 * 0.001, rel=1e-9)
-    assert any("not budgeted for R1" in n for n in b.notes)
+    assert any("not budgeted: R1 has a number in the circuit" in n for n in b.notes)
 
 
 def test_resistor_params_from_text_is_named_when_text_is_given():
