@@ -322,3 +322,19 @@ def test_design_note_of_a_nested_result_lists_the_definitions():
     note = opsym.design_note(res, fmt="markdown")
     assert "sequence of definitions" in note and "X_{1} ={} &" in note
     assert "first order in 1/A" not in note
+
+
+def test_input_impedance_of_a_nested_ladder():
+    """The MSB source of a 12-bit ladder sees its 2R leg plus the virtual ground.
+
+    Hand analysis: with every other source grounded the terminated ladder is 2R from
+    the last node through R (each node sees 2R ‖ 2R = R, Horowitz & Hill, from memory);
+    the op-amp drives −A·V(n) through Rf, so the node is 2R ‖ Rf/(1 + A) to ground:
+    Zin = 2R + 1/(1/(2R) + (1 + A)/Rf) = 20 kΩ + 20 kΩ/200 003 at R = Rf = 10 kΩ, A = 1e5.
+    SymPy's simplify, which the zero test used, crashed on the auxiliaries before.
+    """
+    circuit = r2r_dac(12)
+    z = opsym.input_impedance(circuit, "B11").impedance
+    values = {circuit.symbol(k): v for k, v in _dac_values(12, gain=100_000).items()}
+    assert z.xreplace(values) == sp.Rational(20_000 * 200_004, 200_003)
+    assert sp.simplify(z).atoms(Aux)  # simplify leaves the auxiliaries standing

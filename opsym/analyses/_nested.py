@@ -27,10 +27,10 @@ from collections.abc import Iterable, Mapping
 
 import sympy as sp
 
-from ..equations.nested import EXPAND_LIMIT, definitions_of, expanded, has_aux
+from ..equations.nested import EXPAND_LIMIT, definitions_of, expanded, has_aux, probe
 from ..errors import ExpressionTooLargeError
 
-__all__ = ["needs_expanded", "where_latex", "where_text"]
+__all__ = ["needs_expanded", "vanishes", "where_latex", "where_text"]
 
 
 def needs_expanded(expr: sp.Expr, what: str, limit: int = EXPAND_LIMIT) -> sp.Expr:
@@ -43,6 +43,17 @@ def needs_expanded(expr: sp.Expr, what: str, limit: int = EXPAND_LIMIT) -> sp.Ex
         raise ExpressionTooLargeError(
             f"{what} needs the result in expanded form, which is too large here: {err}"
         ) from None
+
+
+def vanishes(expr: sp.Expr) -> bool:
+    """Whether ``expr`` is zero: by simplification, or for a nested expression by the
+    solver's modular probe (the same test its pivots use; false zero below 1e-15)."""
+    if not has_aux(expr):
+        return bool(sp.simplify(expr) == 0)
+    try:
+        return probe(expr) == 0
+    except (TypeError, ZeroDivisionError):  # not rational there: expand, or keep it
+        return bool(sp.simplify(needs_expanded(expr, "a zero test")) == 0)
 
 
 def where_latex(exprs: Iterable[sp.Expr], names: Mapping[sp.Symbol, str]) -> str:

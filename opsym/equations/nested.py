@@ -130,6 +130,8 @@ class Aux(sp.Symbol):
     def _xreplace(self, rule: Mapping) -> tuple[Any, bool]:
         if self in rule:
             return rule[self], True
+        if not isinstance(rule, dict):  # a rule by test (SymPy's Transform): what it takes
+            rule = {s: rule[s] for s in self._free if s in rule}
         if not rule or self._free.isdisjoint(rule):
             return self, False
         key = ("x", tuple(rule.items()))
